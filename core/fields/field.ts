@@ -1,0 +1,60 @@
+// TEAM NOTE (temporary, the lead removes it): several engineers edit this tree at once. Read /tmp/rules.md and follow it: no git commands, no npm install, touch only your assigned files.
+import type { Bounds, FieldKind } from '../types.js';
+
+/**
+ * The one interface every field source implements (neural network, dense grid, recipe).
+ *
+ * A field answers batched queries: `points` holds 3 floats per point (x, y, z in metres);
+ * `evaluate` returns one value per point, in the field's own units (metres for `sdf`, density units,
+ * or occupancy logits). Sources backed by WASM or ONNX are ready when constructed by their
+ * async factory; nothing else needs awaiting.
+ */
+export interface Field {
+  /** `sdf`: negative inside. `density`: ≥ 0, inside where above the level. `occupancy`: logit, inside where above the level. */
+  readonly kind: FieldKind;
+  /** Where the field is defined, metres. */
+  readonly bounds: Bounds;
+  /** The level the source declares (metadata, sidecar), or undefined when it declares none. */
+  readonly defaultLevel: number | undefined;
+  /** True when `evaluateColor` returns the field's own color. */
+  readonly hasColor: boolean;
+  /**
+   * An upper bound on |∇value| (metres per metre) that the source can promise, for sdf fields:
+   * 1 for exact recipe SDFs. Undefined when the source cannot promise one (neural networks);
+   * then the sampler uses the user's `--lipschitz` or its default safety factor.
+   */
+  readonly lipschitz?: number;
+  /** Human-readable description of the source (file name, outputs) for reports and `inspect`. */
+  readonly description: FieldDescription;
+  /** Values at `points` (3 floats per point). Resolves to one float per point. */
+  evaluate(points: Float32Array, signal?: AbortSignal): Promise<Float32Array>;
+  /** Linear RGB (0..1) at `points`, 3 floats per point. Only when `hasColor`. */
+  evaluateColor?(points: Float32Array, signal?: AbortSignal): Promise<Float32Array>;
+  /** Releases workers, sessions and so on. Optional. */
+  dispose?(): Promise<void> | void;
+}
+
+/** What a source says about itself. */
+export interface FieldDescription {
+  /** `onnx`, `grid`, `recipe`, or another name a source picks. */
+  source: string;
+  /** File name or other label. */
+  name: string;
+  /** The model's or file's outputs, e.g. `['sdf', 'color']`. */
+  outputs: string[];
+  /** Extra facts worth printing (grid shape, opset, ...). */
+  details?: Record<string, unknown>;
+}
+
+/**
+ * Converts a field value to Fieldkiln's signed "outside distance-like" convention used by the sampler
+ * and mesher: negative inside, non-negative outside, zero at the level.
+ */
+export function signedFromValue(kind: FieldKind, value: number, level: number): number {
+  return kind === 'sdf' ? value - level : level - value;
+}
+
+/** Default level per kind when the source declares none. Density has no universal default. */
+export function defaultLevelFor(kind: FieldKind): number | undefined {
+  return kind === 'density' ? undefined : 0;
+}

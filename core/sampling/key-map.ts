@@ -1,0 +1,80 @@
+/**
+ * An open-addressing hash map from non-negative integer keys (below 2^53) to float64 values,
+ * used by the sampler to evaluate each lattice point once. Keys and values live in two flat typed
+ * arrays (16 bytes per slot, load factor ≤ 0.5), where a JS `Map` keeps a heap entry per key;
+ * a depth-10 surface needs millions of keys.
+ */
+const EMPTY = -1;
+
+export class KeyMap {
+  private keys: Float64Array;
+  private vals: Float64Array;
+  private mask: number;
+  size = 0;
+
+  constructor(expected = 1024) {
+    let cap = 16;
+    while (cap < expected * 2) cap *= 2;
+    this.keys = new Float64Array(cap).fill(EMPTY);
+    this.vals = new Float64Array(cap);
+    this.mask = cap - 1;
+  }
+
+  private static hash(key: number): number {
+    const lo = key % 4294967296 | 0;
+    const hi = (key / 4294967296) | 0;
+    let h = Math.imul(lo ^ Math.imul(hi, 0x27d4eb2d), 0x9e3779b1);
+    h ^= h >>> 15;
+    h = Math.imul(h, 0x85ebca6b);
+    h ^= h >>> 13;
+    return h >>> 0;
+  }
+
+  /** Slot of `key`, or of the empty slot where it would go. */
+  private slot(key: number): number {
+    let i = KeyMap.hash(key) & this.mask;
+    const keys = this.keys;
+    while (keys[i] !== EMPTY && keys[i] !== key) i = (i + 1) & this.mask;
+    return i;
+  }
+
+  has(key: number): boolean {
+    return this.keys[this.slot(key)] === key;
+  }
+
+  /** The value at `key`, or NaN when absent. */
+  get(key: number): number {
+    const i = this.slot(key);
+    return this.keys[i] === key ? this.vals[i] : NaN;
+  }
+
+  set(key: number, value: number): void {
+    let i = this.slot(key);
+    if (this.keys[i] !== key) {
+      if ((this.size + 1) * 2 > this.keys.length) {
+        this.grow();
+        i = this.slot(key);
+      }
+      this.keys[i] = key;
+      this.size++;
+    }
+    this.vals[i] = value;
+  }
+
+  private grow(): void {
+    const oldK = this.keys;
+    const oldV = this.vals;
+    const cap = oldK.length * 2;
+    this.keys = new Float64Array(cap).fill(EMPTY);
+    this.vals = new Float64Array(cap);
+    this.mask = cap - 1;
+    for (let i = 0; i < oldK.length; i++) {
+      const k = oldK[i];
+      if (k !== EMPTY) {
+        const j = this.slot(k);
+        this.keys[j] = k;
+        this.vals[j] = oldV[i];
+      }
+    }
+  }
+}
