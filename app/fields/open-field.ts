@@ -21,6 +21,7 @@ import { parseNpy } from '../../core/fields/npy.js';
 import { createGridField } from '../../core/fields/grid-field.js';
 import { createNeuralField, type NeuralValueInfo } from '../../core/fields/neural-field.js';
 import { OnnxFormatError, readOnnxModelInfo } from '../../core/fields/onnx-metadata.js';
+import { createRecipeField } from '../../core/fields/recipe/recipe-field.js';
 
 /** Command-line values that win over what the file declares. */
 export interface FieldOverrides {
@@ -200,7 +201,7 @@ async function openGrid(bytes: Uint8Array, filePath: string, name: string, overr
   return createGridField({ values: grid.data, shape, sidecar: merged, name, colors });
 }
 
-async function openRecipe(bytes: Uint8Array, name: string, overrides: FieldOverrides): Promise<Field> {
+function openRecipe(bytes: Uint8Array, name: string, overrides: FieldOverrides): Field {
   let text: string;
   try {
     text = new TextDecoder('utf-8', { fatal: true }).decode(bytes);
@@ -217,15 +218,21 @@ async function openRecipe(bytes: Uint8Array, name: string, overrides: FieldOverr
     // Not JSON: the recipe reader reports it with its own message.
   }
   checkOverrides(overrides, name);
-  const { createRecipeField } = await import('../../core/fields/recipe/recipe-field.js');
-  const field = createRecipeField(text, name);
+  let field: Field;
+  try {
+    field = createRecipeField(text, name);
+  } catch (e) {
+    // The recipe reader's messages start with `recipe:`; put the file name first like every other source.
+    if (e instanceof FieldkilnError && !e.message.startsWith(`${name}:`)) throw new FieldkilnError(`${name}: ${e.message}`);
+    throw e;
+  }
   return withOverrides(field, overrides, name);
 }
 
 /** A field whose bounds and level are replaced by the user's; `kind` must match. */
 function withOverrides(field: Field, overrides: FieldOverrides, name: string): Field {
   if (overrides.kind !== undefined && overrides.kind !== field.kind) {
-    throw new FieldkilnError(`${name}: --kind ${overrides.kind} disagrees with the file, which holds a ${field.kind} field`);
+    throw new FieldkilnError(`${name}: --kind ${overrides.kind} disagrees with the file, whose field kind is ${field.kind}`);
   }
   if (overrides.bounds === undefined && overrides.level === undefined) return field;
   return {

@@ -13,8 +13,8 @@
  * `colors`).
  *
  * Interpolation: standard trilinear interpolation of the eight corners of the cell holding the
- * point (e.g. Bourke, "Interpolation methods", 1999). Points outside the bounds are clamped onto
- * the box, so they get the value of the nearest boundary point of the interpolant.
+ * point (three nested linear interpolations, x then y then z). Points outside the bounds are clamped
+ * onto the box, so they get the value of the nearest boundary point of the interpolant.
  */
 import type { Bounds, FieldKind } from '../types.js';
 import { FIELD_KINDS, FieldkilnError, boundsProblem, throwIfAborted } from '../types.js';

@@ -12,7 +12,11 @@
  *   Three distinct points in the relative interiors of cube edges are never collinear (a line meets a
  *   convex body's boundary in at most two points unless it lies in a face, and inside a face it meets
  *   the edges at two points), so no triangle has zero area.
- * - Each polygon is fanned from the vertex that maximizes the smallest triangle area.
+ * - Each polygon is fanned from the vertex that maximizes the smallest triangle area, among the fans
+ *   whose diagonals leave the cell's faces. A diagonal joining two vertices of one face (possible on a
+ *   face with four crossings) would lie in that face, and the neighbour cell could pick the same one:
+ *   the edge would then carry four triangles. When every fan has such a diagonal, the polygon is fanned
+ *   around its centroid instead, a new vertex strictly inside the cell.
  */
 import type { MeshData } from '../types.js';
 import type { SurfaceCells } from '../sampling/sample-octree.js';
@@ -75,22 +79,36 @@ export function marchingCubes(cells: SurfaceCells): MeshData {
         }
         loopIds.push(id);
       }
-      fanTriangulate(loopIds, pos, tri);
+      fanTriangulate(loop, loopIds, pos, tri);
     }
   }
   return { positions: new Float32Array(pos), indices: new Uint32Array(tri) };
 }
 
-/** Fans polygon `ids` from the vertex whose fan has the largest smallest triangle (twice the area, squared). */
-function fanTriangulate(ids: number[], pos: number[], out: number[]): void {
+/** Bit mask of the two faces that contain edge `e` (face 2a + side, see cell-loops.ts). */
+const EDGE_FACES: readonly number[] = Array.from({ length: 12 }, (_, e) => {
+  const a = e >> 2;
+  const u = (a + 1) % 3;
+  const v = (a + 2) % 3;
+  return (1 << (2 * u + (e & 1))) | (1 << (2 * v + ((e >> 1) & 1)));
+});
+
+/**
+ * Fans polygon `ids` (on cell edges `edges`) from the vertex whose fan has the largest smallest
+ * triangle (twice the area, squared), skipping fans with a diagonal inside a cell face.
+ */
+function fanTriangulate(edges: readonly number[], ids: number[], pos: number[], out: number[]): void {
   const n = ids.length;
   if (n === 3) {
     out.push(ids[0], ids[1], ids[2]);
     return;
   }
-  let best = 0;
+  let best = -1;
   let bestScore = -1;
   for (let s = 0; s < n; s++) {
+    let inFace = false;
+    for (let t = 2; t < n - 1; t++) if (EDGE_FACES[edges[s]] & EDGE_FACES[edges[(s + t) % n]]) inFace = true;
+    if (inFace) continue;
     let worst = Infinity;
     for (let t = 1; t < n - 1; t++) {
       const a2 = area2sq(pos, ids[s], ids[(s + t) % n], ids[(s + t + 1) % n]);
@@ -101,7 +119,19 @@ function fanTriangulate(ids: number[], pos: number[], out: number[]): void {
       best = s;
     }
   }
-  for (let t = 1; t < n - 1; t++) out.push(ids[best], ids[(best + t) % n], ids[(best + t + 1) % n]);
+  if (best >= 0) {
+    for (let t = 1; t < n - 1; t++) out.push(ids[best], ids[(best + t) % n], ids[(best + t + 1) % n]);
+    return;
+  }
+  const c = pos.length / 3;
+  let cx = 0, cy = 0, cz = 0;
+  for (const id of ids) {
+    cx += pos[3 * id];
+    cy += pos[3 * id + 1];
+    cz += pos[3 * id + 2];
+  }
+  pos.push(cx / n, cy / n, cz / n);
+  for (let t = 0; t < n; t++) out.push(c, ids[t], ids[(t + 1) % n]);
 }
 
 function area2sq(p: number[], a: number, b: number, c: number): number {

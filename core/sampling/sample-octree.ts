@@ -249,9 +249,23 @@ export async function sampleOctree(field: Field, options: SampleOctreeOptions = 
       }
       active = next;
     }
-    // `active` now holds finest-level cells (stride 1); drop those outside the lattice.
+    // `active` now holds finest-level cells (stride 1), children of level d−1 survivors. Each child has
+    // one corner that is a corner of its parent (even coordinates); evaluating those first (an eighth of
+    // the nodes) prunes the children whose shared corner is farther than L·√3·h (the child's diagonal)
+    // from the level, before the rest of their corners are asked for.
+    const shared: number[] = [];
     for (let a = 0; a < active.length; a += 3) {
-      if (active[a] < nx && active[a + 1] < ny && active[a + 2] < nz) finest.push(active[a], active[a + 1], active[a + 2]);
+      const i = active[a], j = active[a + 1], k = active[a + 2];
+      if (i < nx && j < ny && k < nz) shared.push(2 * (i + (i & 1)), 2 * (j + (j & 1)), 2 * (k + (k & 1)));
+    }
+    await evaluate(shared);
+    const reach = L * Math.sqrt(3) * h;
+    for (let a = 0; a < active.length; a += 3) {
+      const i = active[a], j = active[a + 1], k = active[a + 2];
+      if (i >= nx || j >= ny || k >= nz) continue;
+      const s = cache.get(key2(2 * (i + (i & 1)), 2 * (j + (j & 1)), 2 * (k + (k & 1))));
+      const touches = i === 0 || j === 0 || k === 0 || i === nx - 1 || j === ny - 1 || k === nz - 1;
+      if (Math.abs(s) <= reach || (s < 0 && touches)) finest.push(i, j, k);
     }
   } else {
     const s0 = Math.min(options.startDepth ?? SAMPLE_OCTREE_DEFAULTS.startDepth, depth);

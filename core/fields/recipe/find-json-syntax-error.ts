@@ -57,6 +57,13 @@ export function findJsonSyntaxError(text: string): JsonSyntaxError | null {
 
   const fail = (offset: number, message: string): JsonSyntaxError => ({ offset, ...lineColumnAt(text, offset), message });
 
+  /** An error at `at` where `what` was expected, naming comments and single quotes when those are the cause. */
+  const unexpected = (at: number, what: string): JsonSyntaxError => {
+    if (text[at] === '/' && (text[at + 1] === '/' || text[at + 1] === '*')) return fail(at, 'comments are not allowed in JSON');
+    if (text[at] === "'") return fail(at, 'strings must use double quotes (")');
+    return fail(at, `expected ${what} (found ${found(text, at)})`);
+  };
+
   const skipSpace = (): void => {
     while (i < n) {
       const c = text.charCodeAt(i);
@@ -79,12 +86,14 @@ export function findJsonSyntaxError(text: string): JsonSyntaxError | null {
       if (c === 92) {
         const e = text[i + 1];
         if (e === 'u') {
-          if (!/^[0-9a-fA-F]{4}$/.test(text.slice(i + 2, i + 6))) return fail(i, 'a \\u escape needs four hex digits');
+          for (let k = i + 2; k < i + 6; k++) {
+            if (!/[0-9a-fA-F]/.test(text[k] ?? '')) return fail(k, `a \\u escape needs four hex digits (found ${found(text, k)})`);
+          }
           i += 6;
         } else if (e !== undefined && '"\\/bfnrt'.includes(e)) {
           i += 2;
         } else {
-          return fail(i, `invalid escape '\\${e ?? ''}' in a string`);
+          return fail(i + 1, `invalid escape '\\${e ?? ''}' in a string`);
         }
         continue;
       }
@@ -124,7 +133,7 @@ export function findJsonSyntaxError(text: string): JsonSyntaxError | null {
     skipSpace();
     if (text[i] !== '"') {
       if (afterComma && text[i] === '}') return fail(i, "trailing comma before '}' (JSON allows no comma after the last property)");
-      return fail(i, `expected a property name in double quotes (found ${found(text, i)})`);
+      return unexpected(i, 'a property name in double quotes');
     }
     const err = scanString();
     if (err) return err;
@@ -164,20 +173,15 @@ export function findJsonSyntaxError(text: string): JsonSyntaxError | null {
       err = scanString();
     } else if (c === '-' || isDigit(text.charCodeAt(i))) {
       err = scanNumber();
-    } else if (text.startsWith('true', i)) {
-      i += 4;
-    } else if (text.startsWith('false', i)) {
-      i += 5;
-    } else if (text.startsWith('null', i)) {
-      i += 4;
-    } else if (c === '/' && (text[i + 1] === '/' || text[i + 1] === '*')) {
-      return fail(i, 'comments are not allowed in JSON');
-    } else if (c === "'") {
-      return fail(i, 'strings must use double quotes (")');
+    } else if (c === 't' || c === 'f' || c === 'n') {
+      const word = c === 't' ? 'true' : c === 'f' ? 'false' : 'null';
+      for (let k = 0; k < word.length; k++, i++) {
+        if (text[i] !== word[k]) return fail(i, `expected '${word}' (found ${found(text, i)})`);
+      }
     } else if (c === ']' && stack.length && text.slice(0, i).trimEnd().endsWith(',')) {
       return fail(i, "trailing comma before ']' (JSON allows no comma after the last element)");
     } else {
-      return fail(i, `expected a value (found ${found(text, i)})`);
+      return unexpected(i, 'a value');
     }
     if (err) return err;
 
@@ -204,8 +208,7 @@ export function findJsonSyntaxError(text: string): JsonSyntaxError | null {
         }
         break;
       }
-      if (text[i] === '/' && (text[i + 1] === '/' || text[i + 1] === '*')) return fail(i, 'comments are not allowed in JSON');
-      return fail(i, `expected ',' or '${close}' after ${what} (found ${found(text, i)})`);
+      return unexpected(i, `',' or '${close}' after ${what}`);
     }
   }
 }

@@ -154,7 +154,7 @@ function parseCommon(obj: JsonObject, path: string, owner: string, parentColor: 
   if (own(obj, 'color') !== undefined) {
     color = vec3(obj, 'color', path, owner, false);
     for (let i = 0; i < 3; i++) {
-      if (color[i] < 0 || color[i] > 1) fail(`${child(path, 'color')}[${i}]`, `must be between 0 and 1 (linear RGB) (got ${show(color[i])})`);
+      if (color[i] < 0 || color[i] > 1) fail(`${child(path, 'color')}[${i}]`, `must be between 0 and 1, linear RGB (got ${show(color[i])})`);
     }
   }
   return { translate, rotate, scale, color };

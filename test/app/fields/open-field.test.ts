@@ -157,12 +157,12 @@ describe('file problems give clear errors', () => {
   test('truncated ONNX: the first half of a fixture', async () => {
     const bytes = readFileSync(path.join(fixtures, 'torus_sdf.onnx'));
     const p = writeTmp('half.onnx', bytes.subarray(0, bytes.length >> 1));
-    await expectOpenError(p, /^half\.onnx: not a valid ONNX model \(onnxruntime: .+; the protobuf is truncated or garbled .*is the file cut short\?\)$/);
+    await expectOpenError(p, /^half\.onnx: not a valid ONNX model \(onnxruntime: .+; the data ends early, so the file looks truncated \(field 7 at byte \d+ claims \d+ bytes but only \d+ remain\)\)$/);
   });
 
   test('a text file named .onnx: the runtime reason is kept', async () => {
     const p = writeTmp('x.onnx', 'solid cube\n  facet normal 0 0 1\nendsolid\n');
-    await expectOpenError(p, /^x\.onnx: not a valid ONNX model \(onnxruntime: .*protobuf parsing failed/);
+    await expectOpenError(p, /^x\.onnx: not a valid ONNX model \(onnxruntime: .*protobuf parsing failed.*; the file starts with plain text, not a binary ONNX model\)$/);
   });
 
   test('missing file, empty file, a directory', async () => {
@@ -245,5 +245,32 @@ describe('dense grids (.npy + .json sidecar)', () => {
 
   test('a grid sidecar opened as a .json says which .npy to open', async () => {
     await expectOpenError(path.join(fixtures, 'sphere_sdf_grid64.json'), /^sphere_sdf_grid64\.json: this is the sidecar of the grid sphere_sdf_grid64\.npy; open sphere_sdf_grid64\.npy instead/);
+  });
+});
+
+describe('recipes (.json)', () => {
+  const recipe = (root: unknown) => JSON.stringify({ format: 'fieldkiln-recipe', version: 1, root });
+
+  test('a sphere recipe opens as an sdf field: |p| - r (analytic sphere distance)', async () => {
+    const f = await openField(writeTmp('ball.recipe.json', recipe({ type: 'sphere', radius: 0.5 })));
+    expect(f.kind).toBe('sdf');
+    expect(f.description.source).toBe('recipe');
+    const v = await f.evaluate(new Float32Array([0, 0, 0, 1, 0, 0]));
+    expect(v[0]).toBeCloseTo(-0.5, 6);
+    expect(v[1]).toBeCloseTo(0.5, 6);
+  });
+
+  test('overrides: --level and --bounds replace the recipe\'s; --kind must match', async () => {
+    const p = writeTmp('ball2.recipe.json', recipe({ type: 'sphere', radius: 0.5 }));
+    const f = await openField(p, { level: 0.1, bounds: [-1, -1, -1, 1, 1, 1] });
+    expect(f.defaultLevel).toBe(0.1);
+    expect(f.bounds).toEqual([-1, -1, -1, 1, 1, 1]);
+    expect((await f.evaluate(new Float32Array([0, 0, 0])))[0]).toBeCloseTo(-0.5, 6);
+    await expectOpenError(p, /^ball2\.recipe\.json: --kind density disagrees with the file, whose field kind is sdf/, { kind: 'density' });
+  });
+
+  test('an invalid recipe error starts with the file name', async () => {
+    await expectOpenError(writeTmp('bad.recipe.json', '{"format": "something-else"}'), /^bad\.recipe\.json: /);
+    await expectOpenError(writeTmp('bin.json', new Uint8Array([0xff, 0xfe, 0x00, 0x81])), /^bin\.json: not a recipe: the file is not UTF-8 text/);
   });
 });

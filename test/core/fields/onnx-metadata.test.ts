@@ -43,12 +43,12 @@ describe('readOnnxMetadata', () => {
     test('truncated: the first half of a fixture (a length runs past the end)', () => {
       const half = sphere.subarray(0, sphere.length >> 1);
       expect(() => readOnnxMetadata(half, 'half.onnx')).toThrow(OnnxFormatError);
-      expect(() => readOnnxMetadata(half, 'half.onnx')).toThrow(/^half\.onnx is not an ONNX model: the protobuf is truncated or garbled \(field 7 at byte \d+ claims \d+ bytes/);
+      expect(() => readOnnxMetadata(half, 'half.onnx')).toThrow(/^half\.onnx is not an ONNX model: the data ends early, so the file looks truncated \(field 7 at byte \d+ claims \d+ bytes/);
     });
 
     test('varint overrun: a tag whose varint never ends', () => {
       expect(() => readOnnxMetadata(new Uint8Array([0x08, 0xff, 0xff]))).toThrow(/varint at byte 1 runs past the end/);
-      expect(() => readOnnxMetadata(new Uint8Array(12).fill(0xff))).toThrow(/longer than 10 bytes/);
+      expect(() => readOnnxMetadata(new Uint8Array(12).fill(0xff))).toThrow(/the bytes are not a protobuf message \(a varint at byte 0 is longer than 10 bytes/);
     });
 
     test('text is not a model', () => {

@@ -1,0 +1,331 @@
+/**
+ * The bake worker: opens fields and runs core's bakeField, writeGlb and gltf-validator off the main
+ * thread, one job at a time, answering the messages of worker-messages.ts. It holds the open field
+ * and the last full-depth result (for export).
+ *
+ * Started by handlers.ts with `new Worker(<this file, compiled>, { workerData: { cancel } })`.
+ */
+import { createHash } from 'node:crypto';
+import { readFile, stat } from 'node:fs/promises';
+import { createRequire } from 'node:module';
+import { parentPort, workerData } from 'node:worker_threads';
+import type { Field } from '../../core/fields/field.js';
+import { bakeField, BAKE_DEFAULTS, MESHING_METHODS, type BakeOptions, type BakeReport } from '../../core/pipeline/bake-field.js';
+import { probeField } from '../../core/sampling/probe-field.js';
+import { SAMPLE_OCTREE_DEFAULTS } from '../../core/sampling/sample-octree.js';
+import { collectProblemEdges } from '../../core/checks/collect-problem-edges.js';
+import { writeGlb } from '../../core/export/write-glb.js';
+import { CancelledError, FieldkilnError, type MeshData } from '../../core/types.js';
+import { openField } from '../fields/open-field.js';
+import { writeFileAtomic } from '../node/atomic-write.js';
+import type { BakeRequest, BakeResult, BakeSettings, ExportRequest, ExportResult, MeshPayload, ValidatorVerdict, Verdict } from '../shared/ipc.js';
+import { chooseLevelRange } from './choose-level-range.js';
+import type { FieldFacts, WorkerReply, WorkerRequest, WorkerStartData } from './worker-messages.js';
+
+/** Depth the window starts at, and the range its depth slider offers (core accepts more; deeper is slow). */
+export const APP_DEPTHS = { start: BAKE_DEFAULTS.depth, min: 3, max: 10 };
+/** A preview samples this many levels shallower than the depth asked for (8× fewer cells per level dropped along each axis … 4× fewer surface cells). */
+export const PREVIEW_DEPTH_DROP = 2;
+/** The shallowest preview. */
+export const PREVIEW_MIN_DEPTH = 3;
+
+/** Depth a preview samples for a requested depth. */
+export function previewDepth(depth: number): number {
+  return Math.max(Math.min(depth, PREVIEW_MIN_DEPTH), depth - PREVIEW_DEPTH_DROP);
+}
+
+/**
+ * Shaping options of bakeField (triangle budget, LODs, small-part removal) that this core
+ * understands. They are passed only when core declares a default for them in BAKE_DEFAULTS.
+ */
+export function shapingSupport(): { budget: boolean; lods: boolean; minPart: boolean } {
+  const d = BAKE_DEFAULTS as Record<string, unknown>;
+  return { budget: 'budget' in d, lods: 'lods' in d, minPart: 'minPart' in d };
+}
+
+interface OpenState {
+  field: Field;
+  path: string;
+  name: string;
+  sha256: string;
+  bytes: number;
+}
+
+interface FullState {
+  key: string;
+  settings: BakeSettings;
+  mesh: MeshData;
+  lods: MeshData[];
+  report: BakeReport;
+}
+
+const port = parentPort;
+if (port) {
+  const cancel = new Int32Array((workerData as WorkerStartData).cancel);
+  let open: OpenState | undefined;
+  let full: FullState | undefined;
+  let queue: Promise<void> = Promise.resolve();
+  const post = (m: WorkerReply, transfer: ArrayBuffer[] = []) => port.postMessage(m, transfer);
+
+  port.on('message', (msg: WorkerRequest) => {
+    queue = queue.then(() => run(msg));
+  });
+
+  const run = async (msg: WorkerRequest): Promise<void> => {
+    try {
+      if (msg.type === 'open') {
+        const facts = await doOpen(msg.id, msg.path);
+        post({ type: 'done', id: msg.id, ok: true, value: facts });
+      } else if (msg.type === 'bake') {
+        const { result, transfer } = await doBake(msg.id, msg.request);
+        post({ type: 'done', id: msg.id, ok: true, value: result }, transfer);
+      } else {
+        const value = await doExport(msg.id, msg.path, msg.request);
+        post({ type: 'done', id: msg.id, ok: true, value });
+      }
+    } catch (e) {
+      const cancelled = e instanceof CancelledError || isCancelled(msg.id);
+      post({ type: 'done', id: msg.id, ok: false, cancelled, error: cancelled ? 'stopped' : plainWords(e) });
+    }
+  };
+
+  const isCancelled = (id: number) => Atomics.load(cancel, 0) >= id;
+
+  const doOpen = async (id: number, path: string): Promise<FieldFacts> => {
+    post({ type: 'progress', id, job: 'open', stage: 'open', fraction: 0 });
+    const field = await openField(path);
+    try {
+      const fileBytes = await readFile(path);
+      const sha256 = createHash('sha256').update(fileBytes).digest('hex');
+      post({ type: 'progress', id, job: 'open', stage: 'probe', fraction: 0.5 });
+      const probe = await probeField(field);
+      const choice = chooseLevelRange(field.kind, probe, field.bounds, field.defaultLevel);
+      const previous = open;
+      open = { field, path, name: field.description.name, sha256, bytes: fileBytes.length };
+      full = undefined;
+      await previous?.field.dispose?.();
+      const orNull = (v: number) => (Number.isFinite(v) ? v : null);
+      return {
+        name: field.description.name,
+        source: field.description.source,
+        kind: field.kind,
+        bounds: [...field.bounds],
+        outputs: [...field.description.outputs],
+        hasColor: field.hasColor,
+        declaredLevel: field.defaultLevel ?? null,
+        startLevel: choice.start,
+        levelRange: choice.range,
+        valueRange: [orNull(probe.valueRange[0]), orNull(probe.valueRange[1])],
+        percentiles: { p1: orNull(probe.percentiles.p1), p50: orNull(probe.percentiles.p50), p99: orNull(probe.percentiles.p99) },
+        depth: { start: APP_DEPTHS.start, min: APP_DEPTHS.min, max: APP_DEPTHS.max, preview: previewDepth(APP_DEPTHS.start) },
+        methods: [...MESHING_METHODS],
+        shaping: shapingSupport(),
+        details: formatDetails(field.description.details ?? {}),
+      };
+    } catch (e) {
+      if (open?.field !== field) await field.dispose?.();
+      throw e;
+    }
+  };
+
+  /** Runs bakeField for job `id`, polling the shared cancel flag. */
+  const runBake = async (id: number, settings: BakeSettings, depth: number, job: 'preview' | 'full' | 'export') => {
+    if (!open) throw new FieldkilnError('no field is open; open a field first');
+    const controller = new AbortController();
+    const poll = () => {
+      if (isCancelled(id) && !controller.signal.aborted) controller.abort();
+    };
+    poll();
+    const inner = open.field;
+    // The same field, asking the flag before every batch of values: the sampler awaits each batch,
+    // so a cancel lands within one batch even when evaluation itself is synchronous (recipes).
+    const field: Field = {
+      kind: inner.kind,
+      bounds: inner.bounds,
+      defaultLevel: inner.defaultLevel,
+      hasColor: inner.hasColor,
+      lipschitz: inner.lipschitz,
+      description: inner.description,
+      evaluate: (points, signal) => {
+        poll();
+        return inner.evaluate(points, signal);
+      },
+      evaluateColor: inner.evaluateColor
+        ? (points, signal) => {
+            poll();
+            return inner.evaluateColor!(points, signal);
+          }
+        : undefined,
+    };
+    const support = shapingSupport();
+    const options: BakeOptions & Record<string, unknown> = {
+      depth,
+      level: settings.level,
+      method: settings.method as BakeOptions['method'],
+      skipExport: true,
+      signal: controller.signal,
+      onProgress: (stage, fraction) => {
+        poll();
+        post({ type: 'progress', id, job, stage, fraction });
+      },
+      logger: { warn: () => {} },
+    };
+    if (support.budget && settings.budget > 0) options.budget = settings.budget;
+    if (support.lods && settings.lods > 0) options.lods = settings.lods;
+    if (support.minPart && settings.minPart > 0) options.minPart = settings.minPart;
+    const result = await bakeField(field, options);
+    if (isCancelled(id)) throw new CancelledError();
+    return result;
+  };
+
+  const doBake = async (id: number, request: BakeRequest): Promise<{ result: BakeResult; transfer: ArrayBuffer[] }> => {
+    const { quality, ...settings } = request;
+    const depth = quality === 'preview' ? previewDepth(settings.depth) : settings.depth;
+    const result = await runBake(id, settings, depth, quality);
+    const lods = lodsOf(result);
+    if (quality === 'full') full = { key: settingsKey(settings), settings, mesh: result.mesh, lods, report: result.report };
+    const problemEdges =
+      result.report.mesh.boundaryEdges + result.report.mesh.nonManifoldEdges > 0
+        ? collectProblemEdges(result.mesh)
+        : { open: new Float32Array(0), nonManifold: new Float32Array(0) };
+    // A preview's arrays are handed over (transferred); a full result's are copied, because the
+    // worker keeps them for export.
+    const bake: BakeResult = {
+      jobId: id,
+      quality,
+      depth,
+      level: settings.level,
+      mesh: toPayload(result.mesh),
+      lods: lods.map(toPayload),
+      problemEdges,
+      verdict: verdictOf(result.report),
+    };
+    const transfer =
+      quality === 'preview'
+        ? [bake.mesh.positions, bake.mesh.normals, bake.mesh.indices, bake.mesh.colors, problemEdges.open, problemEdges.nonManifold]
+            .filter((a): a is Float32Array | Uint32Array => a !== undefined && a.byteLength > 0)
+            .map((a) => a.buffer as ArrayBuffer)
+        : [];
+    return { result: bake, transfer: [...new Set(transfer)] };
+  };
+
+  const doExport = async (id: number, path: string, request: ExportRequest): Promise<Omit<ExportResult, 'path'>> => {
+    if (!open) throw new FieldkilnError('no field is open; open a field first');
+    if (!full || full.key !== settingsKey(request.settings)) {
+      const result = await runBake(id, request.settings, request.settings.depth, 'export');
+      full = { key: settingsKey(request.settings), settings: request.settings, mesh: result.mesh, lods: lodsOf(result), report: result.report };
+    }
+    const chosen = request.lod === 0 ? full.mesh : full.lods[request.lod - 1];
+    if (!chosen) throw new FieldkilnError(`there is no level of detail ${request.lod}; this bake has ${full.lods.length} lighter copies`);
+    post({ type: 'progress', id, job: 'export', stage: 'export', fraction: 0 });
+    const mesh: MeshData = { positions: chosen.positions, indices: chosen.indices, normals: chosen.normals, colors: request.colors ? chosen.colors : undefined };
+    const s = full.settings;
+    const glb = await writeGlb(mesh, {
+      name: request.name,
+      extras: {
+        source: { kind: open.field.kind, name: open.name, file: open.name, sha256: open.sha256, bytes: open.bytes },
+        options: { depth: s.depth, level: s.level, bounds: open.field.bounds, method: s.method, ...(request.lod > 0 ? { lod: request.lod } : {}) },
+      },
+    });
+    if (isCancelled(id)) throw new CancelledError();
+    writeFileAtomic(path, glb);
+    const bytes = (await stat(path)).size;
+    post({ type: 'progress', id, job: 'export', stage: 'validate', fraction: 0.5 });
+    const validator = await validateGlb(glb);
+    return { bytes, format: request.format, validator };
+  };
+}
+
+/** The key of a bake's settings: two settings give the same mesh when their keys are equal. */
+function settingsKey(s: BakeSettings): string {
+  return JSON.stringify([s.level, s.depth, s.method, s.budget, s.lods, s.minPart]);
+}
+
+function toPayload(m: MeshData): MeshPayload {
+  return { positions: m.positions, normals: m.normals ?? new Float32Array(m.positions.length), indices: m.indices, ...(m.colors ? { colors: m.colors } : {}) };
+}
+
+/** The lighter copies a bake made, when core makes them (`lods`: meshes, or objects holding one). */
+function lodsOf(result: unknown): MeshData[] {
+  const lods = (result as { lods?: unknown }).lods;
+  if (!Array.isArray(lods)) return [];
+  return lods
+    .map((l) => (l && typeof l === 'object' && 'mesh' in l ? (l as { mesh: MeshData }).mesh : (l as MeshData)))
+    .filter((m): m is MeshData => !!m && m.positions instanceof Float32Array && m.indices instanceof Uint32Array);
+}
+
+/** The Check step's figures from a bake report. */
+export function verdictOf(report: BakeReport): Verdict {
+  const m = report.mesh;
+  const timings = Object.entries(report.timings).filter(([k, v]) => k !== 'total' && typeof v === 'number') as [string, number][];
+  if (typeof report.timings.total === 'number') timings.push(['total', report.timings.total]);
+  return {
+    triangles: m.triangles,
+    vertices: m.vertices,
+    watertight: m.watertight,
+    boundaryEdges: m.boundaryEdges,
+    nonManifoldEdges: m.nonManifoldEdges,
+    components: m.components,
+    genus: m.genus,
+    area: m.area,
+    volume: m.volume,
+    errorMm: errorMmOf(report),
+    timings,
+    warnings: [...report.warnings],
+  };
+}
+
+/** The shaping error in millimetres, when the report carries one (metres × 1000). */
+function errorMmOf(report: BakeReport): number | null {
+  const r = report as unknown as Record<string, Record<string, unknown> | undefined>;
+  for (const section of ['shaping', 'simplify', 'mesh']) {
+    const s = r[section];
+    if (!s) continue;
+    if (typeof s.errorMm === 'number') return s.errorMm;
+    if (typeof s.maxErrorMm === 'number') return s.maxErrorMm;
+    if (typeof s.error === 'number') return s.error * 1000;
+    if (typeof s.maxError === 'number') return s.maxError * 1000;
+  }
+  return null;
+}
+
+function formatDetails(details: Record<string, unknown>): Record<string, string> {
+  const out: Record<string, string> = {};
+  for (const [k, v] of Object.entries(details)) {
+    if (v === undefined || v === null) continue;
+    const text = typeof v === 'object' ? JSON.stringify(v) : String(v);
+    out[k] = text.length > 120 ? `${text.slice(0, 117)}…` : text;
+  }
+  return out;
+}
+
+interface GltfValidatorReport {
+  validatorVersion: string;
+  issues: { numErrors: number; numWarnings: number; numInfos: number; messages: { code: string; message: string; severity: number }[] };
+}
+
+/** Runs gltf-validator on GLB bytes (it has no types; loaded through require). */
+export async function validateGlb(glb: Uint8Array): Promise<ValidatorVerdict> {
+  const require = createRequire(import.meta.url);
+  const validator = require('gltf-validator') as { validateBytes(data: Uint8Array, options?: { maxIssues?: number }): Promise<GltfValidatorReport> };
+  const r = await validator.validateBytes(glb, { maxIssues: 20 });
+  return {
+    errors: r.issues.numErrors,
+    warnings: r.issues.numWarnings,
+    infos: r.issues.numInfos,
+    messages: r.issues.messages.slice(0, 5).map((m) => `${m.code}: ${m.message}`),
+    validatorVersion: r.validatorVersion,
+  };
+}
+
+/** A message for the window: FieldkilnError's own words, others prefixed so a bug reads as one. */
+export function plainWords(e: unknown): string {
+  if (e instanceof FieldkilnError) return e.message;
+  const msg = e instanceof Error ? e.message : String(e);
+  return `something went wrong inside Fieldkiln: ${msg}`;
+}
+
+// `SAMPLE_OCTREE_DEFAULTS` bounds the depths the window offers.
+if (APP_DEPTHS.max > SAMPLE_OCTREE_DEFAULTS.maxDepth || APP_DEPTHS.min < SAMPLE_OCTREE_DEFAULTS.minDepth) {
+  throw new Error('bakeWorker: APP_DEPTHS lies outside the sampler depth range');
+}

@@ -1,0 +1,78 @@
+/**
+ * Adaptive sampling must find exactly the surface cells that evaluating the whole lattice finds,
+ * while asking for a small share of the points.
+ */
+import { afterAll, describe, expect, test } from 'vitest';
+import { openField } from '../../../app/fields/open-field.js';
+import { sampleOctree } from '../../../core/sampling/sample-octree.js';
+import { sampleDense } from '../../../core/sampling/sample-dense.js';
+import type { Field } from '../../../core/fields/field.js';
+import { fixturePath, hasFixtures, loadManifest } from '../../helpers/fixtures.js';
+import { fnField, sphereSdf } from '../../helpers/analytic-fields.js';
+
+describe.skipIf(!hasFixtures)('octree sampling against dense evaluation (shared fixtures)', () => {
+  const opened: Field[] = [];
+  afterAll(async () => {
+    for (const f of opened) await f.dispose?.();
+  });
+  const manifest = hasFixtures ? loadManifest() : { fixtures: [] };
+  for (const fx of manifest.fixtures) {
+    test(`${fx.id} at depth 7: the same surface cells and corner values as the dense lattice`, async () => {
+      const field = await openField(fixturePath(fx.file));
+      opened.push(field);
+      const sparse = await sampleOctree(field, { depth: 7 });
+      const dense = await sampleDense(field, { depth: 7 });
+      console.log(`${fx.id}: ${sparse.count} surface cells; ${sparse.evaluations} evaluations vs ${dense.evaluations} dense (${((100 * sparse.evaluations) / dense.evaluations).toFixed(2)}%)`);
+      expect(sparse.denseEvaluations).toBe(dense.evaluations);
+      expect(sparse.count).toBe(dense.count);
+      expect(Array.from(sparse.coords)).toEqual(Array.from(dense.coords));
+      expect(Array.from(sparse.corners)).toEqual(Array.from(dense.corners));
+      expect(sparse.evaluations).toBeLessThan(dense.evaluations);
+    });
+  }
+
+  test('sphere_sdf.onnx at depth 9 asks for at most 2% of the 513³ lattice', async () => {
+    const field = await openField(fixturePath('sphere_sdf.onnx'));
+    opened.push(field);
+    const cells = await sampleOctree(field, { depth: 9 });
+    console.log(`sphere_sdf.onnx depth 9: ${cells.evaluations} of ${cells.denseEvaluations} (${((100 * cells.evaluations) / cells.denseEvaluations).toFixed(3)}%)`);
+    expect(cells.denseEvaluations).toBe(513 ** 3);
+    expect(cells.evaluations).toBeLessThanOrEqual(0.02 * 513 ** 3);
+  });
+});
+
+describe('octree sampling on analytic fields', () => {
+  test('density field: coarse-to-fine refinement finds the same cells as the dense lattice', async () => {
+    // density = 40·sigmoid(−sdf/0.02), surface at density 20 (the fixture README's transfer function).
+    const sd = sphereSdf(0.4);
+    const field = fnField((x, y, z) => 40 / (1 + Math.exp(sd(x, y, z) / 0.02)), [-0.6, -0.6, -0.6, 0.6, 0.6, 0.6], { kind: 'density', level: 20 });
+    const sparse = await sampleOctree(field, { depth: 6 });
+    const dense = await sampleDense(field, { depth: 6 });
+    expect(Array.from(sparse.coords)).toEqual(Array.from(dense.coords));
+    expect(sparse.evaluations).toBeLessThan(dense.evaluations / 2);
+  });
+
+  test('a thin shell between coarse samples is found through its face neighbours and the flood fill', async () => {
+    // A spherical shell 0.03 m thick: thinner than a start-level cell (1.2/32 = 0.0375 m).
+    const field = fnField((x, y, z) => Math.abs(Math.hypot(x, y, z) - 0.4) - 0.015, [-0.6, -0.6, -0.6, 0.6, 0.6, 0.6], { kind: 'sdf' });
+    const asDensity = fnField((x, y, z) => -Math.abs(Math.hypot(x, y, z) - 0.4) + 0.015, field.bounds, { kind: 'density', level: 0 });
+    const sparse = await sampleOctree(asDensity, { depth: 7 });
+    const dense = await sampleDense(asDensity, { depth: 7 });
+    expect(sparse.count).toBe(dense.count);
+  });
+
+  test('cancellation through an AbortSignal stops sampling', async () => {
+    const ac = new AbortController();
+    ac.abort();
+    await expect(sampleOctree(fnField(sphereSdf(0.5), [-1, -1, -1, 1, 1, 1]), { depth: 8, signal: ac.signal })).rejects.toThrow(/cancel/);
+  });
+
+  test('NaN from the field: a clear error by default, outside with nonfinite=outside', async () => {
+    const sd = sphereSdf(0.5);
+    const field = fnField((x, y, z) => (x > 0.6 ? NaN : sd(x, y, z)), [-1, -1, -1, 1, 1, 1]);
+    await expect(sampleOctree(field, { depth: 5 })).rejects.toThrow(/non-finite values .* the first at \(/);
+    const cells = await sampleOctree(field, { depth: 5, nonfinite: 'outside' });
+    expect(cells.nonFinite).toBeGreaterThan(0);
+    expect(cells.count).toBeGreaterThan(0);
+  });
+});
