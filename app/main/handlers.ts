@@ -101,6 +101,8 @@ export function createHandlers(options: HandlerOptions): Handlers {
       const p = pending.get(m.id);
       if (p) {
         pending.delete(m.id);
+        // An idle worker must not keep the process alive; a busy one must.
+        if (pending.size === 0) w.unref();
         p.resolve(m);
       }
     });
@@ -133,6 +135,7 @@ export function createHandlers(options: HandlerOptions): Handlers {
     new Promise((resolve) => {
       pending.set(msg.id, { resolve, job });
       lastJobId = Math.max(lastJobId, msg.id);
+      worker!.ref();
       worker!.postMessage(msg);
     });
 

@@ -108,7 +108,6 @@ function buildMenu(): void {
       label: 'Field',
       submenu: [
         { label: 'Open field…', accelerator: 'CmdOrCtrl+O', click: () => sendMenu('open') },
-        { label: 'Open the demo', click: () => sendMenu('demo') },
         { type: 'separator' },
         { label: 'Export…', accelerator: 'CmdOrCtrl+E', click: () => sendMenu('export') },
         { type: 'separator' },

@@ -223,7 +223,7 @@ export interface ProgressEvent {
   fraction: number;
 }
 
-export const MENU_COMMANDS = ['open', 'demo', 'export', 'frame'] as const;
+export const MENU_COMMANDS = ['open', 'export', 'frame'] as const;
 export type MenuCommand = (typeof MENU_COMMANDS)[number];
 export interface MenuEvent {
   command: MenuCommand;

@@ -77,6 +77,11 @@ export interface DualContourOptions {
    * Default: 0.05.
    */
   diagonalTest?: number;
+  /**
+   * How far outside its cell a vertex may sit on a crease that passes just outside the cell, in cell
+   * widths. 0 keeps every vertex in its cell. Default: 0.5.
+   */
+  creaseReach?: number;
   /** Points per `field.evaluate` call. Default: 1 048 576. */
   batchSize?: number;
   signal?: AbortSignal;
@@ -89,6 +94,7 @@ export const DUAL_CONTOUR_DEFAULTS = {
   gradientStep: HERMITE_DATA_DEFAULTS.gradientStep,
   singularCutoff: SOLVE_QEF_DEFAULTS.singularCutoff,
   diagonalTest: 0.05,
+  creaseReach: 0.5,
   batchSize: HERMITE_DATA_DEFAULTS.batchSize,
 };
 
@@ -143,6 +149,8 @@ export async function dualContour(cells: SurfaceCells, field: Field, options: Du
   const singularCutoff = options.singularCutoff ?? DUAL_CONTOUR_DEFAULTS.singularCutoff;
   const diagonalTest = options.diagonalTest ?? DUAL_CONTOUR_DEFAULTS.diagonalTest;
   const batchSize = options.batchSize ?? DUAL_CONTOUR_DEFAULTS.batchSize;
+  const creaseReach = options.creaseReach ?? DUAL_CONTOUR_DEFAULTS.creaseReach;
+  if (!(creaseReach >= 0 && creaseReach <= 1)) throw new Error(`${NAME}: creaseReach must be from 0 to 1 cell widths (got ${creaseReach})`);
   if (!(singularCutoff > 0 && singularCutoff < 1)) throw new Error(`${NAME}: singularCutoff must be in (0, 1) (got ${singularCutoff})`);
   if (!(diagonalTest >= 0)) throw new Error(`${NAME}: diagonalTest must be a non-negative number of cell widths (got ${diagonalTest})`);
   const signal = options.signal;
@@ -217,7 +225,7 @@ export async function dualContour(cells: SurfaceCells, field: Field, options: Du
         ln.push(herm.normals[3 * x], herm.normals[3 * x + 1], herm.normals[3 * x + 2]);
         edgeSlots[4 * x + (e & 1) + 2 * ((e >> 1) & 1)] = vid;
       }
-      const p = placeVertex(lp, ln, singularCutoff, stats);
+      const p = placeVertex(lp, ln, singularCutoff, creaseReach, stats);
       pos.push(ox + h * (i + p[0]), oy + h * (j + p[1]), oz + h * (k + p[2]));
     }
     // Ambiguous faces whose two segments sit in one loop of this cell.
@@ -408,18 +416,27 @@ export async function dualContour(cells: SurfaceCells, field: Field, options: Du
     const SLIVER = 1e-3;
     const slA = Math.min(A0.quality, A1.quality) < SLIVER, slB = Math.min(B0.quality, B1.quality) < SLIVER;
     if (slA !== slB) return slA ? 1 : 0;
-    let bend = 0;
-    for (let t = 0; t < 3; t++) {
-      const d = 0.5 * (positions[3 * q[0] + t] + positions[3 * q[2] + t] - positions[3 * q[1] + t] - positions[3 * q[3] + t]);
-      bend += d * d;
-    }
-    if (Math.sqrt(bend) > diagonalTest * h) {
+    if (quadBend(q) > diagonalTest * h) {
       if (!fieldValues) return -1;
       const fa = Math.abs(fieldValues[0]), fb = Math.abs(fieldValues[1]);
       if (fa !== fb && Number.isFinite(fa) && Number.isFinite(fb)) return fa < fb ? 0 : 1;
     }
     const flatA = dotUnit(A0, A1), flatB = dotUnit(B0, B1);
     return flatB > flatA ? 1 : 0;
+  }
+
+  /** Out-of-plane bend of a quad: the distance between its diagonals' midpoints along the normal (diagonal cross product). */
+  function quadBend(q: number[]): number {
+    const P = positions;
+    const d0 = [0, 1, 2].map((t) => P[3 * q[2] + t] - P[3 * q[0] + t]);
+    const d1 = [0, 1, 2].map((t) => P[3 * q[3] + t] - P[3 * q[1] + t]);
+    const nx = d0[1] * d1[2] - d0[2] * d1[1], ny = d0[2] * d1[0] - d0[0] * d1[2], nz = d0[0] * d1[1] - d0[1] * d1[0];
+    const len = Math.hypot(nx, ny, nz);
+    if (!(len > 0)) return Infinity;
+    let dot = 0;
+    const n = [nx / len, ny / len, nz / len];
+    for (let t = 0; t < 3; t++) dot += n[t] * 0.5 * (P[3 * q[0] + t] + P[3 * q[2] + t] - P[3 * q[1] + t] - P[3 * q[3] + t]);
+    return Math.abs(dot);
   }
 
   function emitQuad(q: number[], choice: number, out: number[]): void {
@@ -467,28 +484,60 @@ function dotUnit(p: { cx: number; cy: number; cz: number; len: number }, q: { cx
 }
 
 /**
- * The vertex of one loop, in cell units relative to the cell's corner: the QEF minimizer, with the
- * rank lowered while it lies outside the cell, then clamped into the cell shrunk by VERTEX_MARGIN.
+ * The vertex of one loop, in cell units relative to the cell's corner (see the file header).
+ * - The QEF minimizer, when it lies in the cell.
+ * - Else a point on the line of the two strongest directions (for a box: the crease between the two
+ *   best-sampled faces): clipped to the cell, the point nearest the minimizer; if the line misses the
+ *   cell, the point nearest the mass point's projection onto it within the cell grown by `creaseReach`
+ *   cell widths. A corner solution is never taken outside the cell, so two cells cannot both put their
+ *   vertex on the same corner.
+ * - Else the line of the strongest direction, clipped to the cell; else the rank-1 point clamped.
+ * Points are finally kept VERTEX_MARGIN inside the region they were clipped to.
  */
-function placeVertex(points: number[], normals: number[], singularCutoff: number, stats: DualContourStats): [number, number, number] {
-  const inside = (p: number[]) => p[0] >= 0 && p[0] <= 1 && p[1] >= 0 && p[1] <= 1 && p[2] >= 0 && p[2] <= 1;
-  let sol = solveQef(points, normals, { singularCutoff });
-  if (!inside(sol.point) && sol.rank > 1) {
-    stats.rankReduced++;
-    for (let r = sol.rank - 1; r >= 1; r--) {
-      sol = solveQef(points, normals, { singularCutoff, maxRank: r });
-      if (inside(sol.point)) break;
-    }
-  }
+function placeVertex(points: number[], normals: number[], singularCutoff: number, creaseReach: number, stats: DualContourStats): [number, number, number] {
+  const sol = solveQef(points, normals, { singularCutoff });
   const p = sol.point;
-  let clamped = false;
+  if (p[0] >= 0 && p[0] <= 1 && p[1] >= 0 && p[1] <= 1 && p[2] >= 0 && p[2] <= 1) return clampInto(p, 0);
+  stats.rankReduced++;
+  const { massPoint: c, axes, coefficients: k } = sol;
+  const lineBase = (q: number) => {
+    const base = [c[0], c[1], c[2]];
+    for (let r = 0; r < q; r++) for (let d = 0; d < 3; d++) base[d] += k[r] * axes[3 * r + d];
+    return base;
+  };
+  const dir2 = [axes[6], axes[7], axes[8]];
+  const base2 = lineBase(2);
+  let hit = clipLine(base2, dir2, 0, k[2]);
+  if (!hit && creaseReach > 0 && sol.rank >= 2) hit = clipLine(base2, dir2, creaseReach, 0);
+  if (hit) return hit;
+  hit = clipLine(lineBase(1), [axes[3], axes[4], axes[5]], 0, k[1]);
+  if (hit) return hit;
+  stats.clamped++;
+  return clampInto([0, 1, 2].map((d) => c[d] + k[0] * axes[d]), 0);
+}
+
+/**
+ * The point base + s · dir with s nearest `prefer` inside the cell grown by `grow` cell widths (then
+ * kept VERTEX_MARGIN inside it), or null when the line misses that box.
+ */
+function clipLine(base: number[], dir: number[], grow: number, prefer: number): [number, number, number] | null {
+  const lo = -grow + VERTEX_MARGIN, hi = 1 + grow - VERTEX_MARGIN;
+  let s0 = -Infinity, s1 = Infinity;
   for (let d = 0; d < 3; d++) {
-    const c = Math.min(1 - VERTEX_MARGIN, Math.max(VERTEX_MARGIN, p[d]));
-    if (c !== p[d]) {
-      if (p[d] < 0 || p[d] > 1) clamped = true;
-      p[d] = c;
+    if (Math.abs(dir[d]) < 1e-12) {
+      if (base[d] < lo || base[d] > hi) return null;
+      continue;
     }
+    const ta = (lo - base[d]) / dir[d], tb = (hi - base[d]) / dir[d];
+    s0 = Math.max(s0, Math.min(ta, tb));
+    s1 = Math.min(s1, Math.max(ta, tb));
   }
-  if (clamped) stats.clamped++;
-  return p;
+  if (!(s0 <= s1)) return null;
+  const s = Math.min(s1, Math.max(s0, prefer));
+  return clampInto([0, 1, 2].map((d) => base[d] + s * dir[d]), grow);
+}
+
+function clampInto(p: number[], grow: number): [number, number, number] {
+  const lo = -grow + VERTEX_MARGIN, hi = 1 + grow - VERTEX_MARGIN;
+  return [Math.min(hi, Math.max(lo, p[0])), Math.min(hi, Math.max(lo, p[1])), Math.min(hi, Math.max(lo, p[2]))];
 }

@@ -49,6 +49,14 @@ export interface QefSolution {
   error: number;
   /** The mass point (mean of the plane points), the reference the solution is taken about. */
   massPoint: [number, number, number];
+  /**
+   * The eigenvalues of AᵀA, largest first, and their unit eigenvectors (3 floats each, same order).
+   * With `coefficients` cᵢ (0 for truncated directions): point = massPoint + Σ cᵢ · axisᵢ. Callers
+   * that must keep the point inside a region can move along the truncated or weakest axes.
+   */
+  eigenvalues: [number, number, number];
+  axes: [number, number, number, number, number, number, number, number, number];
+  coefficients: [number, number, number];
 }
 
 /**
@@ -77,7 +85,9 @@ export function solveQef(points: ArrayLike<number>, normals: ArrayLike<number>, 
   if (!(cutoff > 0 && cutoff < 1)) throw new Error(`${NAME}: singularCutoff must be in (0, 1) (got ${cutoff})`);
   if (!(maxRank === 1 || maxRank === 2 || maxRank === 3)) throw new Error(`${NAME}: maxRank must be 1, 2 or 3 (got ${maxRank})`);
   const m = points.length / 3;
-  if (m === 0) return { point: [0, 0, 0], rank: 0, error: 0, massPoint: [0, 0, 0] };
+  if (m === 0) {
+    return { point: [0, 0, 0], rank: 0, error: 0, massPoint: [0, 0, 0], eigenvalues: [0, 0, 0], axes: [1, 0, 0, 0, 1, 0, 0, 0, 1], coefficients: [0, 0, 0] };
+  }
 
   let cx = 0, cy = 0, cz = 0;
   for (let i = 0; i < m; i++) {
@@ -118,6 +128,7 @@ export function solveQef(points: ArrayLike<number>, normals: ArrayLike<number>, 
 
   let yx = 0, yy = 0, yz = 0;
   let rank = 0;
+  const coefficients: [number, number, number] = [0, 0, 0];
   if (lmax > 0) {
     const minLambda = cutoff * cutoff * lmax;
     for (let r = 0; r < maxRank; r++) {
@@ -126,19 +137,22 @@ export function solveQef(points: ArrayLike<number>, normals: ArrayLike<number>, 
       if (!(l >= minLambda)) break;
       const vx = vec[e], vy = vec[3 + e], vz = vec[6 + e];
       const coef = (vx * atb0 + vy * atb1 + vz * atb2) / l;
+      coefficients[r] = coef;
       yx += coef * vx;
       yy += coef * vy;
       yz += coef * vz;
       rank++;
     }
   }
+  const axes = order.flatMap((e) => [vec[e], vec[3 + e], vec[6 + e]]) as QefSolution['axes'];
+  const eigenvalues = order.map((e) => Math.max(0, lambda[e])) as QefSolution['eigenvalues'];
   // E(c + y) = yᵀ AᵀA y − 2 yᵀ Aᵀb + bᵀb, with the original AᵀA (rebuilt from the eigen-decomposition's input).
   let error = btb - 2 * (yx * atb0 + yy * atb1 + yz * atb2);
   for (let i = 0; i < m; i++) {
     const d = normals[3 * i] * yx + normals[3 * i + 1] * yy + normals[3 * i + 2] * yz;
     error += d * d;
   }
-  return { point: [cx + yx, cy + yy, cz + yz], rank, error: Math.max(0, error), massPoint: [cx, cy, cz] };
+  return { point: [cx + yx, cy + yy, cz + yz], rank, error: Math.max(0, error), massPoint: [cx, cy, cz], eigenvalues, axes, coefficients };
 }
 
 /**

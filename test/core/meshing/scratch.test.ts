@@ -44,7 +44,7 @@ it('scratch box', async () => {
   const f = createRecipeField(text, 'box');
   const cells = await sampleOctree(f, { depth: 6 });
   const h = cells.lattice.cellSize;
-  for (const opts of [{}, { gradientStep: 0.001 }, { gradientStep: 0.05 }, {diagonalTest: 0.1}, { singularCutoff: 0.05 }]) {
+  for (const opts of [{}, {creaseReach: 0}, {creaseReach: 0.25}, {creaseReach: 1}, {gradientStep: 0.001}, {gradientStep: 0.05}]) {
     const r = await dualContour(cells, f, opts);
     console.log(JSON.stringify(opts), JSON.stringify(figures(r.mesh, h)), r.extraEvaluations, JSON.stringify(r.stats), analyzeMesh(r.mesh).watertight);
   }

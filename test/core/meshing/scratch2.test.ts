@@ -17,10 +17,15 @@ it('scratch herm', async () => {
   const r = await dualContour(cells, f);
   const H = await findHermiteData(cells, f);
   const sdf = boxSdf(HALF);
-  for (const v of [4914, 576]) {
+  const V = r.mesh.positions.length / 3;
+  const list: [number, number, string][] = [];
+  for (let v = 0; v < V; v++) { const l = applyT(R, vertex(r.mesh, v)); list.push([Math.abs(sdf(...l)) / h, v, l.map(x => x.toFixed(4)).join(',')]); }
+  list.sort((a, b) => b[0] - a[0]);
+  console.log(list.slice(0, 6).map(x => x.join(' ')).join('\n'));
+  for (const [, v] of list.slice(0, 2)) {
     const p = vertex(r.mesh, v);
     const ci = [0,1,2].map(d => Math.floor((p[d] - cells.lattice.origin[d]) / h));
-    console.log('vertex', v, 'cell', ci);
+    console.log('vertex', v, 'cell', ci, 'local', p.map((x, d) => ((x - cells.lattice.origin[d]) / h - ci[d]).toFixed(4)));
     const lp: number[] = [], ln: number[] = [];
     for (let x = 0; x < H.count; x++) {
       const q = [H.points[3*x], H.points[3*x+1], H.points[3*x+2]] as V3;
