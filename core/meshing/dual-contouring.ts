@@ -53,10 +53,11 @@ import type { Field } from '../fields/field.js';
 import { signedFromValue } from '../fields/field.js';
 import type { MeshData, ProgressFn } from '../types.js';
 import { throwIfAborted } from '../types.js';
+import { KeyMap } from '../sampling/key-map.js';
 import type { SurfaceCells } from '../sampling/sample-octree.js';
 import { cellLoops, EDGE_AXIS, EDGE_CORNERS, FACE_UV_CORNERS, insideJoined, isAmbiguousFace } from './cell-loops.js';
 import { findHermiteData, HERMITE_DATA_DEFAULTS } from './hermite-data.js';
-import { solveQef, SOLVE_QEF_DEFAULTS } from './solve-qef.js';
+import { solveQef, SOLVE_QEF_DEFAULTS, type QefSolution } from './solve-qef.js';
 
 const NAME = 'dualContour';
 
@@ -77,11 +78,6 @@ export interface DualContourOptions {
    * Default: 0.05.
    */
   diagonalTest?: number;
-  /**
-   * How far outside its cell a vertex may sit on a crease that passes just outside the cell, in cell
-   * widths. 0 keeps every vertex in its cell. Default: 0.5.
-   */
-  creaseReach?: number;
   /** Points per `field.evaluate` call. Default: 1 048 576. */
   batchSize?: number;
   signal?: AbortSignal;
@@ -94,7 +90,6 @@ export const DUAL_CONTOUR_DEFAULTS = {
   gradientStep: HERMITE_DATA_DEFAULTS.gradientStep,
   singularCutoff: SOLVE_QEF_DEFAULTS.singularCutoff,
   diagonalTest: 0.05,
-  creaseReach: 0.5,
   batchSize: HERMITE_DATA_DEFAULTS.batchSize,
 };
 
@@ -108,10 +103,10 @@ export interface DualContourStats {
   multiVertexCells: number;
   /** Faces where a vertex per segment was inserted to keep the mesh manifold. */
   splitFaces: number;
-  /** Vertices whose QEF solution left the cell and that were solved with a lower rank. */
-  rankReduced: number;
-  /** Vertices clamped into their cell. */
-  clamped: number;
+  /** Vertices whose QEF minimizer left the cell and that were placed by the constrained search. */
+  constrained: number;
+  /** Crease vertices moved to a corner found with the neighbouring cells' planes. */
+  cornersFromNeighbours: number;
   /** Quads whose diagonal was picked by the field's value. */
   diagonalTests: number;
   /** Sign-changing edges with fewer than 4 surface cells around them (no quad; cannot happen for sampler output). */
@@ -149,8 +144,6 @@ export async function dualContour(cells: SurfaceCells, field: Field, options: Du
   const singularCutoff = options.singularCutoff ?? DUAL_CONTOUR_DEFAULTS.singularCutoff;
   const diagonalTest = options.diagonalTest ?? DUAL_CONTOUR_DEFAULTS.diagonalTest;
   const batchSize = options.batchSize ?? DUAL_CONTOUR_DEFAULTS.batchSize;
-  const creaseReach = options.creaseReach ?? DUAL_CONTOUR_DEFAULTS.creaseReach;
-  if (!(creaseReach >= 0 && creaseReach <= 1)) throw new Error(`${NAME}: creaseReach must be from 0 to 1 cell widths (got ${creaseReach})`);
   if (!(singularCutoff > 0 && singularCutoff < 1)) throw new Error(`${NAME}: singularCutoff must be in (0, 1) (got ${singularCutoff})`);
   if (!(diagonalTest >= 0)) throw new Error(`${NAME}: diagonalTest must be a non-negative number of cell widths (got ${diagonalTest})`);
   const signal = options.signal;
@@ -167,7 +160,7 @@ export async function dualContour(cells: SurfaceCells, field: Field, options: Du
   progress('dual-contour', 0.5);
 
   const { lattice, count: cellCount, coords, corners } = cells;
-  const [nx, ny] = lattice.cells;
+  const [nx, ny, nz] = lattice.cells;
   const h = lattice.cellSize;
   const [ox, oy, oz] = lattice.origin;
   const nodeKey = (i: number, j: number, k: number) => i + (nx + 1) * (j + (ny + 1) * k);
@@ -176,8 +169,8 @@ export async function dualContour(cells: SurfaceCells, field: Field, options: Du
     crossingsAtBounds: herm.atBounds,
     multiVertexCells: 0,
     splitFaces: 0,
-    rankReduced: 0,
-    clamped: 0,
+    constrained: 0,
+    cornersFromNeighbours: 0,
     diagonalTests: 0,
     openEdges: 0,
     nonFinite: herm.nonFinite,
@@ -193,6 +186,8 @@ export async function dualContour(cells: SurfaceCells, field: Field, options: Du
   const loopOfEdge = new Int8Array(12);
   /** Faces (key 3 · nodeKey(min corner) + normal axis) whose two segments lie in one loop, per side. */
   const sameLoopFaces = new Map<number, { sides: number; segments: number[] }>();
+  /** Corners found outside the claiming crease vertex's cell: vertex id, cell i, j, k, corner x, y, z (metres). */
+  const claims: number[] = [];
   for (let c = 0; c < cellCount; c++) {
     if ((c & 0xffff) === 0) throwIfAborted(signal);
     const i = coords[3 * c], j = coords[3 * c + 1], k = coords[3 * c + 2];
@@ -225,7 +220,12 @@ export async function dualContour(cells: SurfaceCells, field: Field, options: Du
         ln.push(herm.normals[3 * x], herm.normals[3 * x + 1], herm.normals[3 * x + 2]);
         edgeSlots[4 * x + (e & 1) + 2 * ((e >> 1) & 1)] = vid;
       }
-      const p = placeVertex(lp, ln, singularCutoff, creaseReach, stats);
+      const p = placeVertex(lp, ln, v, singularCutoff, stats, () => blockPlanes(i, j, k), (corner) => {
+        const ci = Math.floor(i + corner[0]), cj = Math.floor(j + corner[1]), ck = Math.floor(k + corner[2]);
+        if (Math.abs(ci - i) > 1 || Math.abs(cj - j) > 1 || Math.abs(ck - k) > 1) return;
+        claims.push(vid, ci, cj, ck, ox + h * (i + corner[0]), oy + h * (j + corner[1]), oz + h * (k + corner[2]));
+      });
+      if ((globalThis as any).__dcDebug) (globalThis as any).__dcDebug(vid, [i, j, k], lp.slice(), ln.slice(), p);
       pos.push(ox + h * (i + p[0]), oy + h * (j + p[1]), oz + h * (k + p[2]));
     }
     // Ambiguous faces whose two segments sit in one loop of this cell.
@@ -252,10 +252,64 @@ export async function dualContour(cells: SurfaceCells, field: Field, options: Du
     }
   }
 
+  /**
+   * Hermite planes of the crossings on the edges of the 3×3×3 cells around cell (i, j, k), leaving out
+   * the cell's own 12 edges; in the cell's local units.
+   */
+  function blockPlanes(i: number, j: number, k: number): { points: number[]; normals: number[] } {
+    const out = { points: [] as number[], normals: [] as number[] };
+    for (let c = k - 1; c <= k + 2; c++) {
+      for (let b = j - 1; b <= j + 2; b++) {
+        for (let a = i - 1; a <= i + 2; a++) {
+          if (a < 0 || b < 0 || c < 0 || a > nx || b > ny || c > nz) continue;
+          for (let axis = 0; axis < 3; axis++) {
+            const ea = a + (axis === 0 ? 1 : 0), eb = b + (axis === 1 ? 1 : 0), ec = c + (axis === 2 ? 1 : 0);
+            if (ea > i + 2 || eb > j + 2 || ec > k + 2 || ea > nx || eb > ny || ec > nz) continue;
+            // Own edges: both ends on the cell's nodes.
+            if (a >= i && a <= i + 1 && b >= j && b <= j + 1 && c >= k && c <= k + 1 && ea <= i + 1 && eb <= j + 1 && ec <= k + 1) continue;
+            const x = herm.index.get(3 * nodeKey(a, b, c) + axis);
+            if (Number.isNaN(x)) continue;
+            out.points.push((herm.points[3 * x] - ox) / h - i, (herm.points[3 * x + 1] - oy) / h - j, (herm.points[3 * x + 2] - oz) / h - k);
+            out.normals.push(herm.normals[3 * x], herm.normals[3 * x + 1], herm.normals[3 * x + 2]);
+          }
+        }
+      }
+    }
+    return out;
+  }
+
   /** Lattice edge key of local edge `e` of cell `c`. */
   function edgeKeyOf(c: number, e: number): number {
     const c0 = EDGE_CORNERS[e][0];
     return 3 * nodeKey(coords[3 * c] + (c0 & 1), coords[3 * c + 1] + ((c0 >> 1) & 1), coords[3 * c + 2] + ((c0 >> 2) & 1)) + EDGE_AXIS[e];
+  }
+
+  // 1b. Corners in cells without a vertex (no corner of the cell inside): the nearest claiming crease vertex moves there.
+  if (claims.length > 0) {
+    const surfaceCell = new KeyMap(cellCount);
+    for (let c = 0; c < cellCount; c++) surfaceCell.set(coords[3 * c] + nx * (coords[3 * c + 1] + ny * coords[3 * c + 2]), 1);
+    const winner = new Map<number, number>(); // cell key → claim offset
+    for (let q = 0; q < claims.length; q += 7) {
+      const [vid, ci, cj, ck] = [claims[q], claims[q + 1], claims[q + 2], claims[q + 3]];
+      if (ci < 0 || cj < 0 || ck < 0 || ci >= nx || cj >= ny || ck >= nz) continue;
+      const key = ci + nx * (cj + ny * ck);
+      if (surfaceCell.has(key)) continue;
+      const dist = Math.hypot(pos[3 * vid] - claims[q + 4], pos[3 * vid + 1] - claims[q + 5], pos[3 * vid + 2] - claims[q + 6]);
+      const prev = winner.get(key);
+      if (prev === undefined) winner.set(key, q);
+      else {
+        const pv = claims[prev];
+        const pd = Math.hypot(pos[3 * pv] - claims[prev + 4], pos[3 * pv + 1] - claims[prev + 5], pos[3 * pv + 2] - claims[prev + 6]);
+        if (dist < pd) winner.set(key, q);
+      }
+    }
+    for (const q of winner.values()) {
+      const vid = claims[q];
+      pos[3 * vid] = claims[q + 4];
+      pos[3 * vid + 1] = claims[q + 5];
+      pos[3 * vid + 2] = claims[q + 6];
+      stats.cornersFromNeighbours++;
+    }
   }
 
   // 2. A vertex per segment on faces shared by one loop on both sides.
@@ -484,44 +538,149 @@ function dotUnit(p: { cx: number; cy: number; cz: number; len: number }, q: { cx
 }
 
 /**
- * The vertex of one loop, in cell units relative to the cell's corner (see the file header).
- * - The QEF minimizer, when it lies in the cell.
- * - Else a point on the line of the two strongest directions (for a box: the crease between the two
- *   best-sampled faces): clipped to the cell, the point nearest the minimizer; if the line misses the
- *   cell, the point nearest the mass point's projection onto it within the cell grown by `creaseReach`
- *   cell widths. A corner solution is never taken outside the cell, so two cells cannot both put their
- *   vertex on the same corner.
- * - Else the line of the strongest direction, clipped to the cell; else the rank-1 point clamped.
- * Points are finally kept VERTEX_MARGIN inside the region they were clipped to.
+ * The vertex of one loop, in cell units relative to the cell's corner (see the file header): the QEF
+ * minimizer when it lies in the cell, else the best of a few candidates inside the cell.
  */
-function placeVertex(points: number[], normals: number[], singularCutoff: number, creaseReach: number, stats: DualContourStats): [number, number, number] {
+function placeVertex(
+  points: number[],
+  normals: number[],
+  cornerValues: Float64Array,
+  singularCutoff: number,
+  stats: DualContourStats,
+  neighbourPlanes: () => { points: number[]; normals: number[] },
+  claimCorner: (corner: [number, number, number]) => void,
+): [number, number, number] {
+  const inCell = (q: number[]) => q[0] >= 0 && q[0] <= 1 && q[1] >= 0 && q[1] <= 1 && q[2] >= 0 && q[2] <= 1;
   const sol = solveQef(points, normals, { singularCutoff });
-  const p = sol.point;
-  if (p[0] >= 0 && p[0] <= 1 && p[1] >= 0 && p[1] <= 1 && p[2] >= 0 && p[2] <= 1) return clampInto(p, 0);
-  stats.rankReduced++;
-  const { massPoint: c, axes, coefficients: k } = sol;
-  const lineBase = (q: number) => {
-    const base = [c[0], c[1], c[2]];
-    for (let r = 0; r < q; r++) for (let d = 0; d < 3; d++) base[d] += k[r] * axes[3 * r + d];
-    return base;
-  };
-  const dir2 = [axes[6], axes[7], axes[8]];
-  const base2 = lineBase(2);
-  let hit = clipLine(base2, dir2, 0, k[2]);
-  if (!hit && creaseReach > 0 && sol.rank >= 2) hit = clipLine(base2, dir2, creaseReach, 0);
-  if (hit) return hit;
-  hit = clipLine(lineBase(1), [axes[3], axes[4], axes[5]], 0, k[1]);
-  if (hit) return hit;
-  stats.clamped++;
-  return clampInto([0, 1, 2].map((d) => c[d] + k[0] * axes[d]), 0);
+  if (sol.rank === 2) {
+    // A crease: the corner that ends it may lie in this cell without a crossing of its third face here.
+    const extra = neighbourPlanes();
+    if (extra.points.length > 0) {
+      const all = solveQef(points.concat(extra.points), normals.concat(extra.normals), { singularCutoff });
+      const planes = (points.length + extra.points.length) / 3;
+      if (all.rank === 3 && all.error <= planes * CORNER_RMS * CORNER_RMS) {
+        if (inCell(all.point)) {
+          stats.cornersFromNeighbours++;
+          return clampInto(all.point);
+        }
+        claimCorner(all.point);
+      }
+    }
+  }
+  if (inCell(sol.point)) return clampInto(sol.point);
+  stats.constrained++;
+  return constrainedVertex(points, normals, cornerValues, sol);
 }
 
+/** Largest RMS plane distance (cell widths) for a corner found with the neighbours' planes to count as one. */
+const CORNER_RMS = 0.02;
+
+/** Twice this is the smallest |nᵢ × nⱼ| for two planes to define a crease line (about 6°, as the QEF cutoff). */
+const CREASE_SINE = 0.1;
+/** Normals with a larger dot product count as one plane (about 6°) when averaging crossings. */
+const SAME_PLANE = Math.cos((6 * Math.PI) / 180);
+/** Candidates within this many cell widths of the planes' surface count as on it. */
+const ON_SURFACE = 0.01;
+
 /**
- * The point base + s · dir with s nearest `prefer` inside the cell grown by `grow` cell widths (then
- * kept VERTEX_MARGIN inside it), or null when the line misses that box.
+ * A vertex inside the cell for a loop whose QEF minimizer lies outside it (a corner or crease that
+ * passes just outside the cell). Candidates, all inside the cell: the minimizer clamped; each plane's
+ * projection of the mass point; each crossing, and the mean of the crossings that share its plane (on
+ * the surface whenever the face is convex); and on every crease line (two planes' intersection, and the QEF's own
+ * line of its two strongest directions) the point of least QEF error within the cell. They are scored
+ * by their distance to the polyhedral surface the planes describe (the boundary of the intersection of
+ * their inside half-spaces for a convex feature, of the union for a concave one, whichever agrees with
+ * more of the cell's corner signs). Among candidates on that surface (within ON_SURFACE) the least QEF
+ * error wins; if none is on it, the nearest to it.
  */
-function clipLine(base: number[], dir: number[], grow: number, prefer: number): [number, number, number] | null {
-  const lo = -grow + VERTEX_MARGIN, hi = 1 + grow - VERTEX_MARGIN;
+function constrainedVertex(points: number[], normals: number[], cornerValues: Float64Array, sol: QefSolution): [number, number, number] {
+  const m = points.length / 3;
+  const planeValue = (i: number, x: number[]) =>
+    normals[3 * i] * (x[0] - points[3 * i]) + normals[3 * i + 1] * (x[1] - points[3 * i + 1]) + normals[3 * i + 2] * (x[2] - points[3 * i + 2]);
+  let agreeMax = 0, agreeMin = 0;
+  for (let c = 0; c < 8; c++) {
+    const x = [c & 1, (c >> 1) & 1, (c >> 2) & 1];
+    let hi = -Infinity, lo = Infinity;
+    for (let i = 0; i < m; i++) {
+      const f = planeValue(i, x);
+      hi = Math.max(hi, f);
+      lo = Math.min(lo, f);
+    }
+    const inside = cornerValues[c] < 0;
+    if (hi < 0 === inside) agreeMax++;
+    if (lo < 0 === inside) agreeMin++;
+  }
+  const convex = agreeMax >= agreeMin;
+  const surfaceDistance = (x: number[]) => {
+    let v = convex ? -Infinity : Infinity;
+    for (let i = 0; i < m; i++) v = convex ? Math.max(v, planeValue(i, x)) : Math.min(v, planeValue(i, x));
+    return Math.abs(v);
+  };
+  const qefError = (x: number[]) => {
+    let e = 0;
+    for (let i = 0; i < m; i++) e += planeValue(i, x) ** 2;
+    return e;
+  };
+  let best: [number, number, number] = clampInto(sol.point);
+  let bestOn = surfaceDistance(best) <= ON_SURFACE;
+  let bestScore = bestOn ? qefError(best) : surfaceDistance(best);
+  const consider = (x: [number, number, number] | null) => {
+    if (!x) return;
+    const d = surfaceDistance(x);
+    const on = d <= ON_SURFACE;
+    const score = on ? qefError(x) : d;
+    if ((on && !bestOn) || (on === bestOn && score < bestScore)) {
+      best = x;
+      bestOn = on;
+      bestScore = score;
+    }
+  };
+  const c = sol.massPoint;
+  for (let i = 0; i < m; i++) {
+    const f = planeValue(i, c);
+    consider(clampInto([c[0] - f * normals[3 * i], c[1] - f * normals[3 * i + 1], c[2] - f * normals[3 * i + 2]]));
+    // The crossings themselves lie on the surface; so does the mean of the crossings that share a plane.
+    consider(clampInto(points.slice(3 * i, 3 * i + 3)));
+    const mean = [0, 0, 0];
+    let count = 0;
+    for (let j = 0; j < m; j++) {
+      if (normals[3 * i] * normals[3 * j] + normals[3 * i + 1] * normals[3 * j + 1] + normals[3 * i + 2] * normals[3 * j + 2] < SAME_PLANE) continue;
+      for (let d = 0; d < 3; d++) mean[d] += points[3 * j + d];
+      count++;
+    }
+    if (count > 1) consider(clampInto(mean.map((x) => x / count)));
+  }
+  const lineBest = (base: number[], dir: number[]) => {
+    // QEF error along the line is quadratic in s; take its minimum, clipped to the cell.
+    let num = 0, den = 0;
+    for (let i = 0; i < m; i++) {
+      const nd = normals[3 * i] * dir[0] + normals[3 * i + 1] * dir[1] + normals[3 * i + 2] * dir[2];
+      num += nd * planeValue(i, base);
+      den += nd * nd;
+    }
+    return clipLine(base, dir, den > 1e-12 ? -num / den : 0);
+  };
+  if (sol.rank >= 2) {
+    const base = [0, 1, 2].map((d) => c[d] + sol.coefficients[0] * sol.axes[d] + sol.coefficients[1] * sol.axes[3 + d]);
+    consider(lineBest(base, [sol.axes[6], sol.axes[7], sol.axes[8]]));
+  }
+  for (let i = 0; i < m; i++) {
+    for (let j = i + 1; j < m; j++) {
+      const ni = [normals[3 * i], normals[3 * i + 1], normals[3 * i + 2]];
+      const nj = [normals[3 * j], normals[3 * j + 1], normals[3 * j + 2]];
+      const dir = [ni[1] * nj[2] - ni[2] * nj[1], ni[2] * nj[0] - ni[0] * nj[2], ni[0] * nj[1] - ni[1] * nj[0]];
+      const len = Math.hypot(dir[0], dir[1], dir[2]);
+      if (len < CREASE_SINE) continue;
+      const pair = solveQef([...points.slice(3 * i, 3 * i + 3), ...points.slice(3 * j, 3 * j + 3)], [...ni, ...nj]);
+      consider(lineBest(pair.point, [dir[0] / len, dir[1] / len, dir[2] / len]));
+    }
+  }
+  return best;
+}
+
+/** The point base + s · dir with s nearest `prefer` inside the cell (kept VERTEX_MARGIN inside), or null when the line misses it. */
+function clipLine(base: number[], dir: number[], prefer: number): [number, number, number] | null {
+  const lo = VERTEX_MARGIN, hi = 1 - VERTEX_MARGIN;
   let s0 = -Infinity, s1 = Infinity;
   for (let d = 0; d < 3; d++) {
     if (Math.abs(dir[d]) < 1e-12) {
@@ -534,10 +693,11 @@ function clipLine(base: number[], dir: number[], grow: number, prefer: number): 
   }
   if (!(s0 <= s1)) return null;
   const s = Math.min(s1, Math.max(s0, prefer));
-  return clampInto([0, 1, 2].map((d) => base[d] + s * dir[d]), grow);
+  return clampInto([0, 1, 2].map((d) => base[d] + s * dir[d]));
 }
 
-function clampInto(p: number[], grow: number): [number, number, number] {
-  const lo = -grow + VERTEX_MARGIN, hi = 1 + grow - VERTEX_MARGIN;
+/** Clamps a point into the cell shrunk by VERTEX_MARGIN. */
+function clampInto(p: number[]): [number, number, number] {
+  const lo = VERTEX_MARGIN, hi = 1 - VERTEX_MARGIN;
   return [Math.min(hi, Math.max(lo, p[0])), Math.min(hi, Math.max(lo, p[1])), Math.min(hi, Math.max(lo, p[2]))];
 }

@@ -48,6 +48,23 @@ export class KeyMap {
     return this.keys[i] === key ? this.vals[i] : NaN;
   }
 
+  /**
+   * The value at `key`; when absent, stores `value` there and returns NaN (one probe instead of
+   * a `get` followed by a `set`).
+   */
+  getOrSet(key: number, value: number): number {
+    let i = this.slot(key);
+    if (this.keys[i] === key) return this.vals[i];
+    if ((this.size + 1) * 2 > this.keys.length) {
+      this.grow();
+      i = this.slot(key);
+    }
+    this.keys[i] = key;
+    this.vals[i] = value;
+    this.size++;
+    return NaN;
+  }
+
   set(key: number, value: number): void {
     let i = this.slot(key);
     if (this.keys[i] !== key) {
@@ -76,5 +93,39 @@ export class KeyMap {
         this.vals[j] = oldV[i];
       }
     }
+  }
+}
+
+/** A growable list of int32 values (amortized doubling), to avoid boxed JS arrays in hot loops. */
+export class IntList {
+  data: Int32Array;
+  length = 0;
+  constructor(capacity = 1024) {
+    this.data = new Int32Array(Math.max(16, capacity));
+  }
+  private ensure(extra: number): void {
+    if (this.length + extra <= this.data.length) return;
+    let cap = this.data.length * 2;
+    while (cap < this.length + extra) cap *= 2;
+    const next = new Int32Array(cap);
+    next.set(this.data.subarray(0, this.length));
+    this.data = next;
+  }
+  push(a: number): void {
+    this.ensure(1);
+    this.data[this.length++] = a;
+  }
+  push3(a: number, b: number, c: number): void {
+    this.ensure(3);
+    const d = this.data;
+    const n = this.length;
+    d[n] = a;
+    d[n + 1] = b;
+    d[n + 2] = c;
+    this.length = n + 3;
+  }
+  /** A copy of the used part. */
+  toArray(): Int32Array {
+    return this.data.slice(0, this.length);
   }
 }

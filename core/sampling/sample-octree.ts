@@ -22,10 +22,9 @@
  * non-negative outside, the level at zero. A value of exactly zero counts as outside.
  */
 import type { Field } from '../fields/field.js';
-import { signedFromValue } from '../fields/field.js';
 import type { Bounds, ProgressFn } from '../types.js';
 import { FieldkilnError, throwIfAborted } from '../types.js';
-import { KeyMap } from './key-map.js';
+import { IntList, KeyMap } from './key-map.js';
 import { makeLattice, denseNodeCount, type Lattice } from './lattice.js';
 
 /** Options for {@link sampleOctree}. */
@@ -92,6 +91,109 @@ export interface SurfaceCells {
 const BIG = 1e30;
 
 /**
+ * Every lattice point the sampler asked for, each evaluated once. Points live in doubled lattice
+ * coordinates (X = 2i), so both nodes and the centres of finest cells are integers. New points are
+ * queued by `request` and evaluated together by `flush`, in batches.
+ */
+class PointStore {
+  private readonly index: KeyMap;
+  readonly coords = new IntList(1 << 16);
+  vals = new Float32Array(1 << 14);
+  count = 0;
+  private evaluated = 0;
+  closedAtBounds = 0;
+  nonFinite = 0;
+  vmin = Infinity;
+  vmax = -Infinity;
+
+  constructor(
+    private readonly field: Field,
+    private readonly level: number,
+    private readonly lat: Lattice,
+    private readonly opts: { batchSize: number; nonfinite: 'error' | 'outside'; signal?: AbortSignal },
+    expected: number,
+  ) {
+    this.index = new KeyMap(expected);
+  }
+
+  /** Index of point (X, Y, Z) in doubled coordinates, queued for evaluation if new. */
+  request(X: number, Y: number, Z: number): number {
+    const [nx, ny] = this.lat.cells;
+    const key = X + (2 * nx + 1) * (Y + (2 * ny + 1) * Z);
+    const got = this.index.getOrSet(key, this.count);
+    if (got === got) return got; // not NaN: known already
+    this.coords.push3(X, Y, Z);
+    return this.count++;
+  }
+
+  /** Evaluates every queued point. Lattice nodes on the outer layer that come out inside are forced to 0 (outside). */
+  async flush(): Promise<void> {
+    const { field, level, lat, opts } = this;
+    const [nx, ny, nz] = lat.cells;
+    const half = 0.5 * lat.cellSize;
+    const [ox, oy, oz] = lat.origin;
+    if (this.vals.length < this.count) {
+      let cap = this.vals.length;
+      while (cap < this.count) cap *= 2;
+      const next = new Float32Array(cap);
+      next.set(this.vals.subarray(0, this.evaluated));
+      this.vals = next;
+    }
+    const c = this.coords.data;
+    while (this.evaluated < this.count) {
+      throwIfAborted(opts.signal);
+      const start = this.evaluated;
+      const m = Math.min(opts.batchSize, this.count - start);
+      const xyz = new Float32Array(m * 3);
+      for (let q = 0; q < m; q++) {
+        const t = (start + q) * 3;
+        xyz[q * 3] = ox + c[t] * half;
+        xyz[q * 3 + 1] = oy + c[t + 1] * half;
+        xyz[q * 3 + 2] = oz + c[t + 2] * half;
+      }
+      const out = await field.evaluate(xyz, opts.signal);
+      if (out.length !== m) throw new Error(`sampleOctree: field returned ${out.length} values for ${m} points`);
+      let firstBad = -1;
+      let bad = 0;
+      const sdf = field.kind === 'sdf';
+      for (let q = 0; q < m; q++) {
+        const v = out[q];
+        let s: number;
+        if (Number.isFinite(v)) {
+          if (v < this.vmin) this.vmin = v;
+          if (v > this.vmax) this.vmax = v;
+          s = sdf ? v - level : level - v;
+        } else {
+          if (firstBad < 0) firstBad = q;
+          bad++;
+          s = BIG;
+        }
+        if (s < 0) {
+          const t = (start + q) * 3;
+          const X = c[t], Y = c[t + 1], Z = c[t + 2];
+          if (X === 0 || Y === 0 || Z === 0 || X === 2 * nx || Y === 2 * ny || Z === 2 * nz) {
+            s = 0;
+            this.closedAtBounds++;
+          }
+        }
+        this.vals[start + q] = s;
+      }
+      if (bad > 0) {
+        if (opts.nonfinite === 'error') {
+          throw new FieldkilnError(
+            `the field returned ${bad} non-finite values (NaN or ±Inf) among ${m} samples; the first at ` +
+              `(${fmt(xyz[firstBad * 3])}, ${fmt(xyz[firstBad * 3 + 1])}, ${fmt(xyz[firstBad * 3 + 2])}) m. ` +
+              `Pass --nonfinite outside to treat such samples as empty space.`,
+          );
+        }
+        this.nonFinite += bad;
+      }
+      this.evaluated += m;
+    }
+  }
+}
+
+/**
  * Finds the surface cells of `field` at the finest level of an adaptive octree.
  *
  * @example
@@ -108,144 +210,54 @@ export async function sampleOctree(field: Field, options: SampleOctreeOptions = 
     throw new FieldkilnError(`no iso-level: this ${field.kind} field declares none; pass --level`);
   }
   const bounds = options.bounds ?? field.bounds;
-  const kind = field.kind;
-  const nonfinite = options.nonfinite ?? SAMPLE_OCTREE_DEFAULTS.nonfinite;
-  const batchSize = options.batchSize ?? SAMPLE_OCTREE_DEFAULTS.batchSize;
   const signal = options.signal;
   const progress = options.onProgress ?? (() => {});
 
   const lat = makeLattice(bounds, depth);
   const [nx, ny, nz] = lat.cells;
   const h = lat.cellSize;
-  const [ox, oy, oz] = lat.origin;
-  const NX2 = 2 * nx + 1;
-  const NY2 = 2 * ny + 1;
-  const key2 = (X: number, Y: number, Z: number) => X + NX2 * (Y + NY2 * Z);
-
-  const cache = new KeyMap(1 << 16);
-  let evaluations = 0;
-  let nonFiniteCount = 0;
-  let vmin = Infinity;
-  let vmax = -Infinity;
-
-  /** Evaluates the doubled-lattice points in `pts` (X,Y,Z triples) that are not cached yet. */
-  async function evaluate(pts: number[]): Promise<void> {
-    const todo: number[] = [];
-    for (let p = 0; p < pts.length; p += 3) {
-      const k = key2(pts[p], pts[p + 1], pts[p + 2]);
-      if (!cache.has(k)) {
-        cache.set(k, NaN);
-        todo.push(pts[p], pts[p + 1], pts[p + 2]);
-      }
-    }
-    const n = todo.length / 3;
-    for (let start = 0; start < n; start += batchSize) {
-      throwIfAborted(signal);
-      const m = Math.min(batchSize, n - start);
-      const xyz = new Float32Array(m * 3);
-      for (let q = 0; q < m; q++) {
-        const t = (start + q) * 3;
-        xyz[q * 3] = ox + todo[t] * 0.5 * h;
-        xyz[q * 3 + 1] = oy + todo[t + 1] * 0.5 * h;
-        xyz[q * 3 + 2] = oz + todo[t + 2] * 0.5 * h;
-      }
-      const vals = await field.evaluate(xyz, signal);
-      if (vals.length !== m) throw new Error(`sampleOctree: field returned ${vals.length} values for ${m} points`);
-      let firstBad = -1;
-      let bad = 0;
-      for (let q = 0; q < m; q++) {
-        const v = vals[q];
-        const t = (start + q) * 3;
-        let s: number;
-        if (Number.isFinite(v)) {
-          if (v < vmin) vmin = v;
-          if (v > vmax) vmax = v;
-          s = signedFromValue(kind, v, level!);
-        } else {
-          if (firstBad < 0) firstBad = q;
-          bad++;
-          s = BIG;
-        }
-        cache.set(key2(todo[t], todo[t + 1], todo[t + 2]), s);
-      }
-      if (bad > 0) {
-        if (nonfinite === 'error') {
-          throw new FieldkilnError(
-            `the field returned ${bad} non-finite values (NaN or ±Inf) among ${m} samples; the first at ` +
-              `(${fmt(xyz[firstBad * 3])}, ${fmt(xyz[firstBad * 3 + 1])}, ${fmt(xyz[firstBad * 3 + 2])}) m. ` +
-              `Pass --nonfinite outside to treat such samples as empty space.`,
-          );
-        }
-        nonFiniteCount += bad;
-      }
-      evaluations += m;
-    }
-  }
-
-  const isBoundaryNode = (i: number, j: number, k: number) => i <= 0 || j <= 0 || k <= 0 || i >= nx || j >= ny || k >= nz;
-  let closedAtBounds = 0;
-  const forcedSeen = new KeyMap(1024);
-  /** Signed value of lattice node (i,j,k), with the outer layer forced outside. */
-  function nodeS(i: number, j: number, k: number): number {
-    const s = cache.get(key2(2 * i, 2 * j, 2 * k));
-    if (s < 0 && isBoundaryNode(i, j, k)) {
-      const key = key2(2 * i, 2 * j, 2 * k);
-      if (!forcedSeen.has(key)) {
-        forcedSeen.set(key, 1);
-        closedAtBounds++;
-      }
-      return 0;
-    }
-    return s;
-  }
-
-  /** Pushes the 8 corner points of clipped box [lo, hi] (lattice node units) in doubled coordinates. */
-  function pushCorners(out: number[], x0: number, y0: number, z0: number, x1: number, y1: number, z1: number): void {
-    for (let c = 0; c < 8; c++) out.push(2 * (c & 1 ? x1 : x0), 2 * (c & 2 ? y1 : y0), 2 * (c & 4 ? z1 : z0));
-  }
-  /** True when the box's corners straddle the level. */
-  function boxHasSignChange(x0: number, y0: number, z0: number, x1: number, y1: number, z1: number): boolean {
-    let inside = false;
-    let outside = false;
-    for (let c = 0; c < 8; c++) {
-      const s = nodeS(c & 1 ? x1 : x0, c & 2 ? y1 : y0, c & 4 ? z1 : z0);
-      if (s < 0) inside = true;
-      else outside = true;
-      if (inside && outside) return true;
-    }
-    return false;
-  }
+  const store = new PointStore(
+    field,
+    level,
+    lat,
+    { batchSize: options.batchSize ?? SAMPLE_OCTREE_DEFAULTS.batchSize, nonfinite: options.nonfinite ?? SAMPLE_OCTREE_DEFAULTS.nonfinite, signal },
+    1 << 16,
+  );
 
   // Candidate finest cells (i,j,k triples) to test by their corners.
-  let finest: number[] = [];
+  let finest = new IntList();
 
-  if (kind === 'sdf') {
+  if (field.kind === 'sdf') {
     const L = options.lipschitz ?? field.lipschitz ?? SAMPLE_OCTREE_DEFAULTS.neuralLipschitz;
     if (!(L > 0) || !Number.isFinite(L)) throw new FieldkilnError(`--lipschitz must be a positive number (got ${L})`);
-    let active: number[] = [0, 0, 0];
+    let active = new IntList(3);
+    active.push3(0, 0, 0);
     for (let lev = 0; lev < depth; lev++) {
       progress('sample', lev / (depth + 1));
       const S = 2 ** (depth - lev);
-      const centers: number[] = [];
-      const boxes: number[] = [];
+      const boxes = new IntList(active.length * 3);
+      const centre: number[] = [];
+      const a3 = active.data;
       for (let a = 0; a < active.length; a += 3) {
-        const x0 = active[a] * S, y0 = active[a + 1] * S, z0 = active[a + 2] * S;
+        const x0 = a3[a] * S, y0 = a3[a + 1] * S, z0 = a3[a + 2] * S;
         const x1 = Math.min(x0 + S, nx), y1 = Math.min(y0 + S, ny), z1 = Math.min(z0 + S, nz);
         if (x0 >= x1 || y0 >= y1 || z0 >= z1) continue;
-        centers.push(x0 + x1, y0 + y1, z0 + z1);
-        boxes.push(x0, y0, z0, x1, y1, z1, active[a], active[a + 1], active[a + 2]);
+        centre.push(store.request(x0 + x1, y0 + y1, z0 + z1));
+        boxes.push3(x0, y0, z0);
+        boxes.push3(x1, y1, z1);
+        boxes.push3(a3[a], a3[a + 1], a3[a + 2]);
       }
-      await evaluate(centers);
-      const next: number[] = [];
-      for (let b = 0; b < boxes.length; b += 9) {
-        const x0 = boxes[b], y0 = boxes[b + 1], z0 = boxes[b + 2], x1 = boxes[b + 3], y1 = boxes[b + 4], z1 = boxes[b + 5];
-        const s = cache.get(key2(x0 + x1, y0 + y1, z0 + z1));
-        const halfDiag = 0.5 * h * Math.hypot(x1 - x0, y1 - y0, z1 - z0);
+      await store.flush();
+      const next = new IntList(active.length * 4);
+      const b9 = boxes.data;
+      for (let b = 0, c = 0; b < boxes.length; b += 9, c++) {
+        const x0 = b9[b], y0 = b9[b + 1], z0 = b9[b + 2], x1 = b9[b + 3], y1 = b9[b + 4], z1 = b9[b + 5];
+        const s = store.vals[centre[c]];
+        const halfDiag = 0.5 * h * Math.sqrt((x1 - x0) ** 2 + (y1 - y0) ** 2 + (z1 - z0) ** 2);
         const touches = x0 === 0 || y0 === 0 || z0 === 0 || x1 === nx || y1 === ny || z1 === nz;
-        const keep = Math.abs(s) <= L * halfDiag || (s < 0 && touches);
-        if (!keep) continue;
-        const ci = boxes[b + 6] * 2, cj = boxes[b + 7] * 2, ck = boxes[b + 8] * 2;
-        for (let c = 0; c < 8; c++) next.push(ci + (c & 1), cj + ((c >> 1) & 1), ck + ((c >> 2) & 1));
+        if (!(Math.abs(s) <= L * halfDiag || (s < 0 && touches))) continue;
+        const ci = b9[b + 6] * 2, cj = b9[b + 7] * 2, ck = b9[b + 8] * 2;
+        for (let q = 0; q < 8; q++) next.push3(ci + (q & 1), cj + ((q >> 1) & 1), ck + ((q >> 2) & 1));
       }
       active = next;
     }
@@ -253,27 +265,28 @@ export async function sampleOctree(field: Field, options: SampleOctreeOptions = 
     // one corner that is a corner of its parent (even coordinates); evaluating those first (an eighth of
     // the nodes) prunes the children whose shared corner is farther than L·√3·h (the child's diagonal)
     // from the level, before the rest of their corners are asked for.
-    const shared: number[] = [];
-    for (let a = 0; a < active.length; a += 3) {
-      const i = active[a], j = active[a + 1], k = active[a + 2];
-      if (i < nx && j < ny && k < nz) shared.push(2 * (i + (i & 1)), 2 * (j + (j & 1)), 2 * (k + (k & 1)));
+    const a3 = active.data;
+    const shared = new Int32Array(active.length / 3).fill(-1);
+    for (let a = 0, c = 0; a < active.length; a += 3, c++) {
+      const i = a3[a], j = a3[a + 1], k = a3[a + 2];
+      if (i < nx && j < ny && k < nz) shared[c] = store.request(2 * (i + (i & 1)), 2 * (j + (j & 1)), 2 * (k + (k & 1)));
     }
-    await evaluate(shared);
+    await store.flush();
     const reach = L * Math.sqrt(3) * h;
-    for (let a = 0; a < active.length; a += 3) {
-      const i = active[a], j = active[a + 1], k = active[a + 2];
-      if (i >= nx || j >= ny || k >= nz) continue;
-      const s = cache.get(key2(2 * (i + (i & 1)), 2 * (j + (j & 1)), 2 * (k + (k & 1))));
+    finest = new IntList(active.length);
+    for (let a = 0, c = 0; a < active.length; a += 3, c++) {
+      if (shared[c] < 0) continue;
+      const i = a3[a], j = a3[a + 1], k = a3[a + 2];
+      const s = store.vals[shared[c]];
       const touches = i === 0 || j === 0 || k === 0 || i === nx - 1 || j === ny - 1 || k === nz - 1;
-      if (Math.abs(s) <= reach || (s < 0 && touches)) finest.push(i, j, k);
+      if (Math.abs(s) <= reach || (s < 0 && touches)) finest.push3(i, j, k);
     }
   } else {
     const s0 = Math.min(options.startDepth ?? SAMPLE_OCTREE_DEFAULTS.startDepth, depth);
     if (!Number.isInteger(s0) || s0 < 0) throw new FieldkilnError(`start depth must be a non-negative integer (got ${s0})`);
-    // Every cell of the start level.
     let S = 2 ** (depth - s0);
-    let active: number[] = [];
-    for (let k = 0; k * S < nz; k++) for (let j = 0; j * S < ny; j++) for (let i = 0; i * S < nx; i++) active.push(i, j, k);
+    let active = new IntList();
+    for (let k = 0; k * S < nz; k++) for (let j = 0; j * S < ny; j++) for (let i = 0; i * S < nx; i++) active.push3(i, j, k);
     for (let lev = s0; lev <= depth; lev++) {
       progress('sample', lev / (depth + 1));
       S = 2 ** (depth - lev);
@@ -281,31 +294,36 @@ export async function sampleOctree(field: Field, options: SampleOctreeOptions = 
         finest = active;
         break;
       }
-      const pts: number[] = [];
-      for (let a = 0; a < active.length; a += 3) {
-        const x0 = active[a] * S, y0 = active[a + 1] * S, z0 = active[a + 2] * S;
-        pushCorners(pts, x0, y0, z0, Math.min(x0 + S, nx), Math.min(y0 + S, ny), Math.min(z0 + S, nz));
+      const a3 = active.data;
+      const corner = new Int32Array((active.length / 3) * 8);
+      for (let a = 0, c = 0; a < active.length; a += 3, c++) {
+        const x0 = a3[a] * S, y0 = a3[a + 1] * S, z0 = a3[a + 2] * S;
+        const x1 = Math.min(x0 + S, nx), y1 = Math.min(y0 + S, ny), z1 = Math.min(z0 + S, nz);
+        for (let q = 0; q < 8; q++) corner[8 * c + q] = store.request(2 * (q & 1 ? x1 : x0), 2 * (q & 2 ? y1 : y0), 2 * (q & 4 ? z1 : z0));
       }
-      await evaluate(pts);
+      await store.flush();
       const cx = Math.ceil(nx / S), cy = Math.ceil(ny / S), cz = Math.ceil(nz / S);
-      const marked = new Set<number>();
+      const marked: number[] = [];
       const mark = (i: number, j: number, k: number) => {
-        if (i >= 0 && j >= 0 && k >= 0 && i < cx && j < cy && k < cz) marked.add(i + cx * (j + cy * k));
+        if (i >= 0 && j >= 0 && k >= 0 && i < cx && j < cy && k < cz) marked.push(i + cx * (j + cy * k));
       };
-      for (let a = 0; a < active.length; a += 3) {
-        const i = active[a], j = active[a + 1], k = active[a + 2];
-        const x0 = i * S, y0 = j * S, z0 = k * S;
-        if (!boxHasSignChange(x0, y0, z0, Math.min(x0 + S, nx), Math.min(y0 + S, ny), Math.min(z0 + S, nz))) continue;
+      for (let a = 0, c = 0; a < active.length; a += 3, c++) {
+        let inside = 0;
+        for (let q = 0; q < 8; q++) if (store.vals[corner[8 * c + q]] < 0) inside++;
+        if (inside === 0 || inside === 8) continue;
+        const i = a3[a], j = a3[a + 1], k = a3[a + 2];
         mark(i, j, k);
         mark(i - 1, j, k); mark(i + 1, j, k); mark(i, j - 1, k); mark(i, j + 1, k); mark(i, j, k - 1); mark(i, j, k + 1);
       }
       const sorted = Float64Array.from(marked).sort();
-      const next: number[] = [];
-      for (const key of sorted) {
+      const next = new IntList(sorted.length * 24);
+      for (let m = 0; m < sorted.length; m++) {
+        const key = sorted[m];
+        if (m > 0 && key === sorted[m - 1]) continue;
         const i = key % cx, j = Math.floor(key / cx) % cy, k = Math.floor(key / (cx * cy));
-        for (let c = 0; c < 8; c++) {
-          const a = 2 * i + (c & 1), b = 2 * j + ((c >> 1) & 1), d = 2 * k + ((c >> 2) & 1);
-          if (a * (S / 2) < nx && b * (S / 2) < ny && d * (S / 2) < nz) next.push(a, b, d);
+        for (let q = 0; q < 8; q++) {
+          const a = 2 * i + (q & 1), b = 2 * j + ((q >> 1) & 1), d = 2 * k + ((q >> 2) & 1);
+          if (a * (S / 2) < nx && b * (S / 2) < ny && d * (S / 2) < nz) next.push3(a, b, d);
         }
       }
       active = next;
@@ -315,65 +333,64 @@ export async function sampleOctree(field: Field, options: SampleOctreeOptions = 
   // Finest level: test candidates by their corners, then follow sign-changing faces (flood fill).
   progress('sample', depth / (depth + 1));
   const cellKey = (i: number, j: number, k: number) => i + nx * (j + ny * k);
-  const seen = new KeyMap(finest.length);
-  const surface: number[] = [];
+  const seen = new KeyMap(finest.length / 3 + 16);
+  const surface = new IntList(finest.length);
+  const surfaceCorners = new IntList(finest.length * 3);
   let wave = finest;
   while (wave.length > 0) {
     throwIfAborted(signal);
-    const pts: number[] = [];
-    const fresh: number[] = [];
+    const fresh = new IntList(wave.length);
+    const corner = new IntList(wave.length * 3);
+    const w3 = wave.data;
     for (let a = 0; a < wave.length; a += 3) {
-      const key = cellKey(wave[a], wave[a + 1], wave[a + 2]);
-      if (seen.has(key)) continue;
-      seen.set(key, 1);
-      fresh.push(wave[a], wave[a + 1], wave[a + 2]);
-      pushCorners(pts, wave[a], wave[a + 1], wave[a + 2], wave[a] + 1, wave[a + 1] + 1, wave[a + 2] + 1);
+      const i = w3[a], j = w3[a + 1], k = w3[a + 2];
+      if (seen.getOrSet(cellKey(i, j, k), 1) === 1) continue;
+      fresh.push3(i, j, k);
+      for (let q = 0; q < 8; q++) corner.push(store.request(2 * (i + (q & 1)), 2 * (j + ((q >> 1) & 1)), 2 * (k + ((q >> 2) & 1))));
     }
-    await evaluate(pts);
-    const nextWave: number[] = [];
-    for (let a = 0; a < fresh.length; a += 3) {
-      const i = fresh[a], j = fresh[a + 1], k = fresh[a + 2];
+    await store.flush();
+    const next = new IntList();
+    const f3 = fresh.data;
+    const cs = corner.data;
+    const vals = store.vals;
+    for (let a = 0, c = 0; a < fresh.length; a += 3, c++) {
       let mask = 0;
-      for (let c = 0; c < 8; c++) if (nodeS(i + (c & 1), j + ((c >> 1) & 1), k + ((c >> 2) & 1)) < 0) mask |= 1 << c;
+      for (let q = 0; q < 8; q++) if (vals[cs[8 * c + q]] < 0) mask |= 1 << q;
       if (mask === 0 || mask === 255) continue;
-      surface.push(i, j, k);
-      // Faces: for axis a and side s, the 4 corners with bit a == s.
-      for (let axis = 0; axis < 3; axis++) {
-        for (let side = 0; side < 2; side++) {
-          let fm = 0;
-          let cnt = 0;
-          for (let c = 0; c < 8; c++) {
-            if (((c >> axis) & 1) === side) {
-              cnt++;
-              if (mask & (1 << c)) fm++;
-            }
-          }
-          if (fm === 0 || fm === cnt) continue;
-          const ni = i + (axis === 0 ? (side ? 1 : -1) : 0);
-          const nj = j + (axis === 1 ? (side ? 1 : -1) : 0);
-          const nk = k + (axis === 2 ? (side ? 1 : -1) : 0);
+      const i = f3[a], j = f3[a + 1], k = f3[a + 2];
+      seen.set(cellKey(i, j, k), 2 + surface.length / 3);
+      surface.push3(i, j, k);
+      for (let q = 0; q < 8; q++) surfaceCorners.push(cs[8 * c + q]);
+      // Faces: for axis ax and side sd, the 4 corners with bit ax == sd; follow those that change sign.
+      for (let ax = 0; ax < 3; ax++) {
+        for (let sd = 0; sd < 2; sd++) {
+          const fm = mask & FACE_MASK[2 * ax + sd];
+          if (fm === 0 || fm === FACE_MASK[2 * ax + sd]) continue;
+          const d = sd ? 1 : -1;
+          const ni = i + (ax === 0 ? d : 0), nj = j + (ax === 1 ? d : 0), nk = k + (ax === 2 ? d : 0);
           if (ni < 0 || nj < 0 || nk < 0 || ni >= nx || nj >= ny || nk >= nz) continue;
-          if (!seen.has(cellKey(ni, nj, nk))) nextWave.push(ni, nj, nk);
+          if (!seen.has(cellKey(ni, nj, nk))) next.push3(ni, nj, nk);
         }
       }
     }
-    wave = nextWave;
+    wave = next;
   }
 
   // Deterministic order: by linear cell index.
   const count = surface.length / 3;
+  const s3 = surface.data;
   const order = new Float64Array(count);
-  for (let c = 0; c < count; c++) order[c] = cellKey(surface[3 * c], surface[3 * c + 1], surface[3 * c + 2]);
+  for (let c = 0; c < count; c++) order[c] = cellKey(s3[3 * c], s3[3 * c + 1], s3[3 * c + 2]);
   order.sort();
   const coords = new Int32Array(count * 3);
   const corners = new Float32Array(count * 8);
-  for (let c = 0; c < count; c++) {
-    const key = order[c];
-    const i = key % nx, j = Math.floor(key / nx) % ny, k = Math.floor(key / (nx * ny));
-    coords[3 * c] = i;
-    coords[3 * c + 1] = j;
-    coords[3 * c + 2] = k;
-    for (let q = 0; q < 8; q++) corners[8 * c + q] = nodeS(i + (q & 1), j + ((q >> 1) & 1), k + ((q >> 2) & 1));
+  const sc = surfaceCorners.data;
+  for (let r = 0; r < count; r++) {
+    const c = seen.get(order[r]) - 2;
+    coords[3 * r] = s3[3 * c];
+    coords[3 * r + 1] = s3[3 * c + 1];
+    coords[3 * r + 2] = s3[3 * c + 2];
+    for (let q = 0; q < 8; q++) corners[8 * r + q] = store.vals[sc[8 * c + q]];
   }
   progress('sample', 1);
   return {
@@ -382,13 +399,20 @@ export async function sampleOctree(field: Field, options: SampleOctreeOptions = 
     count,
     coords,
     corners,
-    evaluations,
+    evaluations: store.count,
     denseEvaluations: denseNodeCount(lat),
-    closedAtBounds,
-    nonFinite: nonFiniteCount,
-    valueRange: [vmin, vmax],
+    closedAtBounds: store.closedAtBounds,
+    nonFinite: store.nonFinite,
+    valueRange: [store.vmin, store.vmax],
   };
 }
+
+/** Corner bits of each face 2·axis + side (corners whose bit `axis` equals `side`). */
+const FACE_MASK: readonly number[] = Array.from({ length: 6 }, (_, f) => {
+  let m = 0;
+  for (let c = 0; c < 8; c++) if (((c >> (f >> 1)) & 1) === (f & 1)) m |= 1 << c;
+  return m;
+});
 
 function fmt(v: number): string {
   return Number(v.toPrecision(5)).toString();
