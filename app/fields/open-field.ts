@@ -37,6 +37,8 @@ export interface FieldOverrides {
 export interface OpenFieldOptions {
   /** Points per ONNX inference call. Default: NEURAL_DEFAULTS.batchSize. */
   batchSize?: number;
+  /** onnxruntime intra-op threads. Default: ONNX_SESSION_OPTIONS.intraOpNumThreads. */
+  intraOpNumThreads?: number;
 }
 
 /** The extensions {@link openField} reads, with what each holds. */
@@ -98,7 +100,10 @@ export async function openField(filePath: string, overrides: FieldOverrides = {}
 async function openOnnx(bytes: Uint8Array, name: string, overrides: FieldOverrides, options: OpenFieldOptions): Promise<Field> {
   let session: ort.InferenceSession;
   try {
-    session = await ort.InferenceSession.create(bytes, ONNX_SESSION_OPTIONS);
+    session = await ort.InferenceSession.create(bytes, {
+      ...ONNX_SESSION_OPTIONS,
+      ...(options.intraOpNumThreads ? { intraOpNumThreads: options.intraOpNumThreads } : {}),
+    });
   } catch (e) {
     const reason = errorText(e);
     let hint = '';

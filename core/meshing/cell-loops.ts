@@ -82,7 +82,7 @@ export function isAmbiguousFace(i00: boolean, i10: boolean, i01: boolean, i11: b
   return i00 === i11 && i10 === i01 && i00 !== i10;
 }
 
-const cache = new Map<number, readonly (readonly number[])[]>();
+const cache: (readonly (readonly number[])[] | undefined)[] = new Array(1 << 14);
 
 /**
  * Loops of edge ids for a cell with inside-corner `mask` (bit c set when corner c is inside) and
@@ -90,7 +90,7 @@ const cache = new Map<number, readonly (readonly number[])[]>();
  */
 export function cellLoops(mask: number, faceBits: number): readonly (readonly number[])[] {
   const key = mask | (faceBits << 8);
-  const hit = cache.get(key);
+  const hit = cache[key];
   if (hit) return hit;
   const next = new Int8Array(12).fill(-1);
   for (let f = 0; f < 6; f++) {
@@ -132,6 +132,6 @@ export function cellLoops(mask: number, faceBits: number): readonly (readonly nu
     }
     loops.push(loop);
   }
-  cache.set(key, loops);
+  cache[key] = loops;
   return loops;
 }

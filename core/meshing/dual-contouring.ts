@@ -66,7 +66,7 @@ export const VERTEX_MARGIN = 1e-3;
 
 /** Options for {@link dualContour}. */
 export interface DualContourOptions {
-  /** Root-finding passes for the crossings (field evaluations per edge at most). Default: 4. */
+  /** Root-finding passes for the crossings (field evaluations per edge at most; edges stop once converged). Default: 8. */
   rootSteps?: number;
   /** Central-difference step for the normals, in cell widths. Default: 0.01. */
   gradientStep?: number;
@@ -78,6 +78,11 @@ export interface DualContourOptions {
    * Default: 0.05.
    */
   diagonalTest?: number;
+  /**
+   * How far outside its cell a vertex may sit on a crease that passes just outside the cell (its QEF
+   * minimizer left the cell), in cell widths. 0 keeps every vertex in its cell. Default: 0.5.
+   */
+  creaseReach?: number;
   /** Points per `field.evaluate` call. Default: 1 048 576. */
   batchSize?: number;
   signal?: AbortSignal;
@@ -90,6 +95,7 @@ export const DUAL_CONTOUR_DEFAULTS = {
   gradientStep: HERMITE_DATA_DEFAULTS.gradientStep,
   singularCutoff: SOLVE_QEF_DEFAULTS.singularCutoff,
   diagonalTest: 0.05,
+  creaseReach: 0.5,
   batchSize: HERMITE_DATA_DEFAULTS.batchSize,
 };
 
@@ -144,6 +150,8 @@ export async function dualContour(cells: SurfaceCells, field: Field, options: Du
   const singularCutoff = options.singularCutoff ?? DUAL_CONTOUR_DEFAULTS.singularCutoff;
   const diagonalTest = options.diagonalTest ?? DUAL_CONTOUR_DEFAULTS.diagonalTest;
   const batchSize = options.batchSize ?? DUAL_CONTOUR_DEFAULTS.batchSize;
+  const creaseReach = options.creaseReach ?? DUAL_CONTOUR_DEFAULTS.creaseReach;
+  if (!(creaseReach >= 0 && creaseReach <= 1)) throw new Error(`${NAME}: creaseReach must be from 0 to 1 cell widths (got ${creaseReach})`);
   if (!(singularCutoff > 0 && singularCutoff < 1)) throw new Error(`${NAME}: singularCutoff must be in (0, 1) (got ${singularCutoff})`);
   if (!(diagonalTest >= 0)) throw new Error(`${NAME}: diagonalTest must be a non-negative number of cell widths (got ${diagonalTest})`);
   const signal = options.signal;
@@ -220,7 +228,7 @@ export async function dualContour(cells: SurfaceCells, field: Field, options: Du
         ln.push(herm.normals[3 * x], herm.normals[3 * x + 1], herm.normals[3 * x + 2]);
         edgeSlots[4 * x + (e & 1) + 2 * ((e >> 1) & 1)] = vid;
       }
-      const p = placeVertex(lp, ln, v, singularCutoff, stats, () => blockPlanes(i, j, k), (corner) => {
+      const p = placeVertex(lp, ln, v, singularCutoff, creaseReach, stats, () => blockPlanes(i, j, k), (corner) => {
         const ci = Math.floor(i + corner[0]), cj = Math.floor(j + corner[1]), ck = Math.floor(k + corner[2]);
         if (Math.abs(ci - i) > 1 || Math.abs(cj - j) > 1 || Math.abs(ck - k) > 1) return;
         claims.push(vid, ci, cj, ck, ox + h * (i + corner[0]), oy + h * (j + corner[1]), oz + h * (k + corner[2]));
@@ -546,6 +554,7 @@ function placeVertex(
   normals: number[],
   cornerValues: Float64Array,
   singularCutoff: number,
+  creaseReach: number,
   stats: DualContourStats,
   neighbourPlanes: () => { points: number[]; normals: number[] },
   claimCorner: (corner: [number, number, number]) => void,
@@ -569,7 +578,7 @@ function placeVertex(
   }
   if (inCell(sol.point)) return clampInto(sol.point);
   stats.constrained++;
-  return constrainedVertex(points, normals, cornerValues, sol);
+  return constrainedVertex(points, normals, cornerValues, sol, creaseReach);
 }
 
 /** Largest RMS plane distance (cell widths) for a corner found with the neighbours' planes to count as one. */
@@ -579,6 +588,13 @@ const CORNER_RMS = 0.02;
 const CREASE_SINE = 0.1;
 /** Normals with a larger dot product count as one plane (about 6°) when averaging crossings. */
 const SAME_PLANE = Math.cos((6 * Math.PI) / 180);
+/**
+ * Only creases sharper than this (|nᵢ × nⱼ| ≥ sin 30°, or for the QEF's own line σ₂/σ₁ ≥ 0.5) may put a
+ * vertex outside its cell (`creaseReach`); the tangent planes of a merely curved surface may not.
+ */
+const SHARP_SINE = 0.5;
+/** QEF error charged per squared cell width a candidate lies outside its cell. */
+const OUTSIDE_PENALTY = 0.01;
 /** Candidates within this many cell widths of the planes' surface count as on it. */
 const ON_SURFACE = 0.01;
 
@@ -593,7 +609,7 @@ const ON_SURFACE = 0.01;
  * more of the cell's corner signs). Among candidates on that surface (within ON_SURFACE) the least QEF
  * error wins; if none is on it, the nearest to it.
  */
-function constrainedVertex(points: number[], normals: number[], cornerValues: Float64Array, sol: QefSolution): [number, number, number] {
+function constrainedVertex(points: number[], normals: number[], cornerValues: Float64Array, sol: QefSolution, creaseReach: number): [number, number, number] {
   const m = points.length / 3;
   const planeValue = (i: number, x: number[]) =>
     normals[3 * i] * (x[0] - points[3 * i]) + normals[3 * i + 1] * (x[1] - points[3 * i + 1]) + normals[3 * i + 2] * (x[2] - points[3 * i + 2]);
@@ -628,7 +644,9 @@ function constrainedVertex(points: number[], normals: number[], cornerValues: Fl
     if (!x) return;
     const d = surfaceDistance(x);
     const on = d <= ON_SURFACE;
-    const score = on ? qefError(x) : d;
+    let outside = 0;
+    for (let t = 0; t < 3; t++) outside += Math.max(0, -x[t], x[t] - 1) ** 2;
+    const score = on ? qefError(x) + OUTSIDE_PENALTY * outside : d;
     if ((on && !bestOn) || (on === bestOn && score < bestScore)) {
       best = x;
       bestOn = on;
@@ -650,7 +668,7 @@ function constrainedVertex(points: number[], normals: number[], cornerValues: Fl
     }
     if (count > 1) consider(clampInto(mean.map((x) => x / count)));
   }
-  const lineBest = (base: number[], dir: number[]) => {
+  const lineBest = (base: number[], dir: number[], sharp: boolean) => {
     // QEF error along the line is quadratic in s; take its minimum, clipped to the cell.
     let num = 0, den = 0;
     for (let i = 0; i < m; i++) {
@@ -658,11 +676,16 @@ function constrainedVertex(points: number[], normals: number[], cornerValues: Fl
       num += nd * planeValue(i, base);
       den += nd * nd;
     }
-    return clipLine(base, dir, den > 1e-12 ? -num / den : 0);
+    consider(clipLine(base, dir, den > 1e-12 ? -num / den : 0, 0));
+    // The crease may pass just outside the cell: its point nearest the mass point, within reach.
+    if (creaseReach > 0 && sharp) {
+      const sMass = (c[0] - base[0]) * dir[0] + (c[1] - base[1]) * dir[1] + (c[2] - base[2]) * dir[2];
+      consider(clipLine(base, dir, sMass, creaseReach));
+    }
   };
   if (sol.rank >= 2) {
     const base = [0, 1, 2].map((d) => c[d] + sol.coefficients[0] * sol.axes[d] + sol.coefficients[1] * sol.axes[3 + d]);
-    consider(lineBest(base, [sol.axes[6], sol.axes[7], sol.axes[8]]));
+    lineBest(base, [sol.axes[6], sol.axes[7], sol.axes[8]], sol.eigenvalues[1] >= SHARP_SINE * SHARP_SINE * sol.eigenvalues[0]);
   }
   for (let i = 0; i < m; i++) {
     for (let j = i + 1; j < m; j++) {
@@ -672,15 +695,18 @@ function constrainedVertex(points: number[], normals: number[], cornerValues: Fl
       const len = Math.hypot(dir[0], dir[1], dir[2]);
       if (len < CREASE_SINE) continue;
       const pair = solveQef([...points.slice(3 * i, 3 * i + 3), ...points.slice(3 * j, 3 * j + 3)], [...ni, ...nj]);
-      consider(lineBest(pair.point, [dir[0] / len, dir[1] / len, dir[2] / len]));
+      lineBest(pair.point, [dir[0] / len, dir[1] / len, dir[2] / len], len >= SHARP_SINE);
     }
   }
   return best;
 }
 
-/** The point base + s · dir with s nearest `prefer` inside the cell (kept VERTEX_MARGIN inside), or null when the line misses it. */
-function clipLine(base: number[], dir: number[], prefer: number): [number, number, number] | null {
-  const lo = VERTEX_MARGIN, hi = 1 - VERTEX_MARGIN;
+/**
+ * The point base + s · dir with s nearest `prefer` inside the cell grown by `grow` cell widths (kept
+ * VERTEX_MARGIN inside it), or null when the line misses it.
+ */
+function clipLine(base: number[], dir: number[], prefer: number, grow: number): [number, number, number] | null {
+  const lo = VERTEX_MARGIN - grow, hi = 1 + grow - VERTEX_MARGIN;
   let s0 = -Infinity, s1 = Infinity;
   for (let d = 0; d < 3; d++) {
     if (Math.abs(dir[d]) < 1e-12) {
@@ -693,11 +719,11 @@ function clipLine(base: number[], dir: number[], prefer: number): [number, numbe
   }
   if (!(s0 <= s1)) return null;
   const s = Math.min(s1, Math.max(s0, prefer));
-  return clampInto([0, 1, 2].map((d) => base[d] + s * dir[d]));
+  return clampInto([0, 1, 2].map((d) => base[d] + s * dir[d]), grow);
 }
 
-/** Clamps a point into the cell shrunk by VERTEX_MARGIN. */
-function clampInto(p: number[]): [number, number, number] {
-  const lo = VERTEX_MARGIN, hi = 1 - VERTEX_MARGIN;
+/** Clamps a point into the cell grown by `grow` cell widths (default 0), kept VERTEX_MARGIN inside. */
+function clampInto(p: number[], grow = 0): [number, number, number] {
+  const lo = VERTEX_MARGIN - grow, hi = 1 + grow - VERTEX_MARGIN;
   return [Math.min(hi, Math.max(lo, p[0])), Math.min(hi, Math.max(lo, p[1])), Math.min(hi, Math.max(lo, p[2]))];
 }

@@ -40,7 +40,7 @@ export const ROOT_TOLERANCE = 1e-5;
 
 /** Options for {@link findHermiteData}. */
 export interface HermiteDataOptions {
-  /** Root-finding passes (field evaluations per edge at most). 0 keeps the linear-interpolation point. Default: 4. */
+  /** Root-finding passes (field evaluations per edge at most). 0 keeps the linear-interpolation point. Default: 8. */
   rootSteps?: number;
   /** Central-difference step for the normal, in cell widths. Default: 0.01. */
   gradientStep?: number;
@@ -50,7 +50,7 @@ export interface HermiteDataOptions {
 }
 
 export const HERMITE_DATA_DEFAULTS: Required<Omit<HermiteDataOptions, 'signal'>> = {
-  rootSteps: 4,
+  rootSteps: 8,
   gradientStep: 0.01,
   batchSize: 1_048_576,
 };

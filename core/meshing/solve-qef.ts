@@ -100,7 +100,8 @@ export function solveQef(points: ArrayLike<number>, normals: ArrayLike<number>, 
   cz /= m;
 
   // AᵀA (symmetric, row-major 3×3), Aᵀb and bᵀb about the mass point.
-  const ata = new Float64Array(9);
+  const ata = ATA;
+  ata.fill(0);
   let atb0 = 0, atb1 = 0, atb2 = 0, btb = 0;
   for (let i = 0; i < m; i++) {
     const nx = normals[3 * i], ny = normals[3 * i + 1], nz = normals[3 * i + 2];
@@ -120,10 +121,10 @@ export function solveQef(points: ArrayLike<number>, normals: ArrayLike<number>, 
   ata[6] = ata[2];
   ata[7] = ata[5];
 
-  const vec = new Float64Array(9); // eigenvectors in columns
+  const vec = VEC; // eigenvectors in columns
   jacobiEigen3(ata, vec);
   const lambda = [ata[0], ata[4], ata[8]];
-  const order = [0, 1, 2].sort((p, q) => lambda[q] - lambda[p]);
+  const order = descendingOrder(lambda[0], lambda[1], lambda[2]);
   const lmax = lambda[order[0]];
 
   let yx = 0, yy = 0, yz = 0;
@@ -144,8 +145,9 @@ export function solveQef(points: ArrayLike<number>, normals: ArrayLike<number>, 
       rank++;
     }
   }
-  const axes = order.flatMap((e) => [vec[e], vec[3 + e], vec[6 + e]]) as QefSolution['axes'];
-  const eigenvalues = order.map((e) => Math.max(0, lambda[e])) as QefSolution['eigenvalues'];
+  const [o0, o1, o2] = order;
+  const axes: QefSolution['axes'] = [vec[o0], vec[3 + o0], vec[6 + o0], vec[o1], vec[3 + o1], vec[6 + o1], vec[o2], vec[3 + o2], vec[6 + o2]];
+  const eigenvalues: QefSolution['eigenvalues'] = [Math.max(0, lambda[o0]), Math.max(0, lambda[o1]), Math.max(0, lambda[o2])];
   // E(c + y) = yᵀ AᵀA y − 2 yᵀ Aᵀb + bᵀb, with the original AᵀA (rebuilt from the eigen-decomposition's input).
   let error = btb - 2 * (yx * atb0 + yy * atb1 + yz * atb2);
   for (let i = 0; i < m; i++) {
@@ -153,6 +155,20 @@ export function solveQef(points: ArrayLike<number>, normals: ArrayLike<number>, 
     error += d * d;
   }
   return { point: [cx + yx, cy + yy, cz + yz], rank, error: Math.max(0, error), massPoint: [cx, cy, cz], eigenvalues, axes, coefficients };
+}
+
+/** Scratch matrices (the solver is synchronous, so one pair serves every call). */
+const ATA = new Float64Array(9);
+const VEC = new Float64Array(9);
+
+/** Indices 0, 1, 2 ordered by decreasing value. */
+function descendingOrder(a: number, b: number, c: number): [number, number, number] {
+  if (a >= b) {
+    if (b >= c) return [0, 1, 2];
+    return a >= c ? [0, 2, 1] : [2, 0, 1];
+  }
+  if (a >= c) return [1, 0, 2];
+  return b >= c ? [1, 2, 0] : [2, 1, 0];
 }
 
 /**

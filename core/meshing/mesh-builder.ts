@@ -1,0 +1,104 @@
+/**
+ * Growable vertex and triangle buffers for the meshers, plus the triangulation of one cell polygon.
+ *
+ * Triangulation: each polygon is fanned from the vertex that maximizes the smallest triangle area,
+ * among the fans whose diagonals leave the cell's faces. A diagonal joining two vertices of one face
+ * (possible on a face with four crossings) would lie in that face, and the neighbour cell could pick
+ * the same one: the edge would then carry four triangles. When every fan has such a diagonal, the
+ * polygon is fanned around its centroid instead, a new vertex strictly inside the cell.
+ */
+import type { MeshData } from '../types.js';
+
+/** Bit mask of the two faces that contain cell edge `e` (face 2a + side, see cell-loops.ts). */
+const EDGE_FACES: readonly number[] = Array.from({ length: 12 }, (_, e) => {
+  const a = e >> 2;
+  const u = (a + 1) % 3;
+  const v = (a + 2) % 3;
+  return (1 << (2 * u + (e & 1))) | (1 << (2 * v + ((e >> 1) & 1)));
+});
+
+export class MeshBuilder {
+  pos: Float64Array;
+  idx: Uint32Array;
+  vertexCount = 0;
+  indexCount = 0;
+
+  constructor(expectedVertices = 1024) {
+    this.pos = new Float64Array(Math.max(48, expectedVertices * 3));
+    this.idx = new Uint32Array(Math.max(96, expectedVertices * 6));
+  }
+
+  addVertex(x: number, y: number, z: number): number {
+    if (this.vertexCount * 3 + 3 > this.pos.length) {
+      const next = new Float64Array(this.pos.length * 2);
+      next.set(this.pos);
+      this.pos = next;
+    }
+    const o = this.vertexCount * 3;
+    this.pos[o] = x;
+    this.pos[o + 1] = y;
+    this.pos[o + 2] = z;
+    return this.vertexCount++;
+  }
+
+  addTriangle(a: number, b: number, c: number): void {
+    if (this.indexCount + 3 > this.idx.length) {
+      const next = new Uint32Array(this.idx.length * 2);
+      next.set(this.idx);
+      this.idx = next;
+    }
+    const o = this.indexCount;
+    this.idx[o] = a;
+    this.idx[o + 1] = b;
+    this.idx[o + 2] = c;
+    this.indexCount = o + 3;
+  }
+
+  /** Triangulates one polygon: vertex `ids` in order, lying on cell edges `edges` (same order). */
+  addLoop(edges: readonly number[], ids: ArrayLike<number>, n: number): void {
+    if (n === 3) {
+      this.addTriangle(ids[0], ids[1], ids[2]);
+      return;
+    }
+    let best = -1;
+    let bestScore = -1;
+    for (let s = 0; s < n; s++) {
+      let inFace = false;
+      for (let t = 2; t < n - 1; t++) if (EDGE_FACES[edges[s]] & EDGE_FACES[edges[(s + t) % n]]) inFace = true;
+      if (inFace) continue;
+      let worst = Infinity;
+      for (let t = 1; t < n - 1; t++) {
+        const a2 = this.area2sq(ids[s], ids[(s + t) % n], ids[(s + t + 1) % n]);
+        if (a2 < worst) worst = a2;
+      }
+      if (worst > bestScore) {
+        bestScore = worst;
+        best = s;
+      }
+    }
+    if (best >= 0) {
+      for (let t = 1; t < n - 1; t++) this.addTriangle(ids[best], ids[(best + t) % n], ids[(best + t + 1) % n]);
+      return;
+    }
+    let cx = 0, cy = 0, cz = 0;
+    for (let q = 0; q < n; q++) {
+      cx += this.pos[3 * ids[q]];
+      cy += this.pos[3 * ids[q] + 1];
+      cz += this.pos[3 * ids[q] + 2];
+    }
+    const c = this.addVertex(cx / n, cy / n, cz / n);
+    for (let t = 0; t < n; t++) this.addTriangle(c, ids[t], ids[(t + 1) % n]);
+  }
+
+  private area2sq(a: number, b: number, c: number): number {
+    const p = this.pos;
+    const ux = p[3 * b] - p[3 * a], uy = p[3 * b + 1] - p[3 * a + 1], uz = p[3 * b + 2] - p[3 * a + 2];
+    const vx = p[3 * c] - p[3 * a], vy = p[3 * c + 1] - p[3 * a + 1], vz = p[3 * c + 2] - p[3 * a + 2];
+    const x = uy * vz - uz * vy, y = uz * vx - ux * vz, z = ux * vy - uy * vx;
+    return x * x + y * y + z * z;
+  }
+
+  toMesh(): MeshData {
+    return { positions: Float32Array.from(this.pos.subarray(0, this.vertexCount * 3)), indices: this.idx.slice(0, this.indexCount) };
+  }
+}

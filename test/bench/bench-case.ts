@@ -1,0 +1,170 @@
+/**
+ * One benchmark case, run in its own process so its peak memory (maxRSS) and timings are its own.
+ * Usage: node build/test/bench/bench-case.js '<json spec>'; prints one JSON line.
+ */
+import { spawnSync } from 'node:child_process';
+import { existsSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { createRequire } from 'node:module';
+import { tmpdir } from 'node:os';
+import { join, resolve } from 'node:path';
+import { openField } from '../../app/fields/open-field.js';
+import { bakeField } from '../../core/pipeline/bake-field.js';
+import { sampleDense } from '../../core/sampling/sample-dense.js';
+import { marchingCubes } from '../../core/meshing/marching-cubes.js';
+import { marchingCubesGrid } from '../../core/meshing/marching-cubes-grid.js';
+import { analyzeMesh } from '../../core/checks/analyze-mesh.js';
+import { makeLattice } from '../../core/sampling/lattice.js';
+import type { Field } from '../../core/fields/field.js';
+import { makeBenchGrid, type BenchShape } from './bench-grids.js';
+
+const require = createRequire(import.meta.url);
+const ROOT = resolve(new URL('.', import.meta.url).pathname, '..', '..', '..');
+
+type Spec =
+  | { type: 'pipeline'; file: string; depth: number; threads?: number }
+  | { type: 'usual'; file: string; depth: number; slabs?: number }
+  | { type: 'inference'; file: string; batch: number; threads?: number }
+  | { type: 'grid'; shape: BenchShape; n: number; isosurface: boolean };
+
+/** Wraps a field so the time spent inside `evaluate` (the model itself) is counted. */
+function timed(field: Field): Field & { seconds: number; points: number } {
+  const t = Object.create(field) as Field & { seconds: number; points: number };
+  t.seconds = 0;
+  t.points = 0;
+  t.evaluate = async (p: Float32Array, s?: AbortSignal) => {
+    const t0 = performance.now();
+    const v = await field.evaluate(p, s);
+    t.seconds += (performance.now() - t0) / 1000;
+    t.points += p.length / 3;
+    return v;
+  };
+  return t;
+}
+
+const rss = () => process.resourceUsage().maxRSS * 1024;
+
+async function run(spec: Spec): Promise<Record<string, unknown>> {
+  if (spec.type === 'pipeline') {
+    const t0 = performance.now();
+    const base = await openField(resolve(ROOT, spec.file), {}, { intraOpNumThreads: spec.threads });
+    const open = (performance.now() - t0) / 1000;
+    const field = timed(base);
+    const { report } = await bakeField(field, { depth: spec.depth });
+    await base.dispose?.();
+    const total = open + report.timings.total;
+    return {
+      evaluations: report.sampling.evaluations,
+      denseEvaluations: report.sampling.denseEvaluations,
+      timings: { open, ...report.timings, total },
+      inferenceSeconds: field.seconds,
+      outsideInferenceShare: (total - field.seconds) / total,
+      triangles: report.mesh.triangles,
+      area: report.mesh.area,
+      watertight: report.mesh.watertight,
+      peakRss: rss(),
+    };
+  }
+  if (spec.type === 'usual') {
+    const field = await openField(resolve(ROOT, spec.file));
+    const t0 = performance.now();
+    if (!spec.slabs) {
+      const cells = await sampleDense(field, { depth: spec.depth });
+      const t1 = performance.now();
+      const mesh = marchingCubes(cells);
+      const t2 = performance.now();
+      const a = analyzeMesh(mesh);
+      await field.dispose?.();
+      return { measured: true, evaluations: cells.evaluations, evalSeconds: (t1 - t0) / 1000, contourSeconds: (t2 - t1) / 1000, seconds: (t2 - t0) / 1000, triangles: a.triangles, area: a.area, peakRss: rss() };
+    }
+    // Extrapolated: time `slabs` z-slabs of the dense lattice and scale to all of them (evaluation only,
+    // so the usual way's estimate is a lower bound).
+    const lat = makeLattice(field.bounds, spec.depth);
+    const [nx, ny, nz] = lat.cells;
+    const pts = new Float32Array((nx + 1) * (ny + 1) * 3);
+    const t1 = performance.now();
+    for (let s = 0; s < spec.slabs; s++) {
+      const k = Math.floor(((s + 0.5) * (nz + 1)) / spec.slabs);
+      let q = 0;
+      for (let j = 0; j <= ny; j++)
+        for (let i = 0; i <= nx; i++) {
+          pts[q++] = lat.origin[0] + i * lat.cellSize;
+          pts[q++] = lat.origin[1] + j * lat.cellSize;
+          pts[q++] = lat.origin[2] + k * lat.cellSize;
+        }
+      await field.evaluate(pts);
+    }
+    const per = (performance.now() - t1) / 1000 / spec.slabs;
+    await field.dispose?.();
+    return { measured: false, slabsTimed: spec.slabs, evaluations: (nx + 1) * (ny + 1) * (nz + 1), seconds: per * (nz + 1), note: 'extrapolated from timed slabs, evaluation only (a lower bound)' };
+  }
+  if (spec.type === 'inference') {
+    const field = await openField(resolve(ROOT, spec.file), {}, { batchSize: spec.batch, intraOpNumThreads: spec.threads });
+    const b = field.bounds;
+    const pts = new Float32Array(spec.batch * 3);
+    let seed = 12345;
+    const rnd = () => ((seed = (Math.imul(seed, 1103515245) + 12345) >>> 0) / 4294967296);
+    for (let i = 0; i < spec.batch; i++) for (let a = 0; a < 3; a++) pts[3 * i + a] = b[a] + rnd() * (b[a + 3] - b[a]);
+    await field.evaluate(pts);
+    let best = Infinity;
+    for (let r = 0; r < 5; r++) {
+      const t0 = performance.now();
+      await field.evaluate(pts);
+      best = Math.min(best, (performance.now() - t0) / 1000);
+    }
+    await field.dispose?.();
+    return { pointsPerSecond: spec.batch / best, batch: spec.batch, threads: spec.threads ?? 1 };
+  }
+  // Dense grid: ours vs the isosurface package (in process) vs VTK flying edges (Python), same values.
+  const { values, spacing } = await makeBenchGrid(spec.shape, spec.n);
+  const n = spec.n;
+  const voxels = (n - 1) ** 3;
+  const opts = { kind: 'sdf' as const, level: 0, origin: [-1, -1, -1] as [number, number, number], spacing: [spacing, spacing, spacing] as [number, number, number] };
+  marchingCubesGrid(values, [n, n, n], opts); // warm-up
+  let best = Infinity;
+  let ours = marchingCubesGrid(values, [n, n, n], opts);
+  for (let r = 0; r < 3; r++) {
+    const t0 = performance.now();
+    ours = marchingCubesGrid(values, [n, n, n], opts);
+    best = Math.min(best, (performance.now() - t0) / 1000);
+  }
+  const topo = analyzeMesh(ours.mesh);
+  const result: Record<string, unknown> = {
+    voxels,
+    ours: { seconds: best, voxelsPerSecond: voxels / best, triangles: topo.triangles, euler: topo.eulerCharacteristic, components: topo.components, watertight: topo.watertight, activeBlocks: ours.activeBlocks, totalBlocks: ours.totalBlocks },
+  };
+  if (spec.isosurface) {
+    const iso = require('isosurface') as { marchingCubes(d: number[], f: (x: number, y: number, z: number) => number): { cells: number[][] } };
+    const t0 = performance.now();
+    const out = iso.marchingCubes([n, n, n], (x, y, z) => values[x + n * (y + n * z)]);
+    const s = (performance.now() - t0) / 1000;
+    result.isosurface = { seconds: s, voxelsPerSecond: voxels / s, triangles: out.cells.length };
+  }
+  const py = '/usr/bin/python3';
+  const probe = spawnSync(py, ['-c', 'import vtk, numpy'], { encoding: 'utf8' });
+  if (existsSync(py) && probe.status === 0) {
+    const dir = mkdtempSync(join(tmpdir(), 'fieldkiln-bench-'));
+    const raw = join(dir, 'grid.f32');
+    writeFileSync(raw, new Uint8Array(values.buffer, values.byteOffset, values.byteLength));
+    const script = resolve(ROOT, 'test', 'bench', 'vtk_flying_edges.py');
+    const r = spawnSync(py, [script, raw, String(n), String(n), String(n), '0', '3'], { encoding: 'utf8', maxBuffer: 1 << 20 });
+    rmSync(dir, { recursive: true, force: true });
+    if (r.status === 0) {
+      const v = JSON.parse(r.stdout.trim().split('\n').pop()!);
+      result.vtk = { ...v, voxelsPerSecond: voxels / v.seconds };
+    } else result.vtk = { skipped: `VTK script failed: ${r.stderr.slice(-300)}` };
+  } else result.vtk = { skipped: "Debian's python3-vtk9 is not installed" };
+  result.peakRss = rss();
+  return result;
+}
+
+const spec = JSON.parse(process.argv[2]) as Spec;
+run(spec).then(
+  (r) => {
+    process.stdout.write(JSON.stringify(r) + '\n');
+    process.exit(0);
+  },
+  (e) => {
+    process.stdout.write(JSON.stringify({ error: String((e as Error).message ?? e) }) + '\n');
+    process.exit(1);
+  },
+);

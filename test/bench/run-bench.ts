@@ -1,0 +1,125 @@
+/**
+ * `npm run bench`: Fieldkiln's speed and memory figures, each beside a peer measured in the same run.
+ * Every case runs in its own child process (build/test/bench/bench-case.js) so its peak RSS is its own.
+ * Prints tables and writes bench-results/bench.json (git-ignored).
+ *
+ * Options: --quick (depth 7 and the 128³/256³ grids only), --no-512 (skip the 512³ grids).
+ */
+import { spawnSync } from 'node:child_process';
+import { existsSync, mkdirSync, writeFileSync } from 'node:fs';
+import { resolve } from 'node:path';
+
+const ROOT = resolve(new URL('.', import.meta.url).pathname, '..', '..', '..');
+const CASE = resolve(ROOT, 'build', 'test', 'bench', 'bench-case.js');
+const SHARED = resolve(ROOT, '..', 'shared', 'fixtures');
+const quick = process.argv.includes('--quick');
+const no512 = process.argv.includes('--no-512') || quick;
+
+type Row = Record<string, unknown>;
+function runCase(spec: Row): Row {
+  const r = spawnSync(process.execPath, ['--max-old-space-size=8192', CASE, JSON.stringify(spec)], { encoding: 'utf8', maxBuffer: 16 << 20, timeout: 30 * 60_000 });
+  const line = (r.stdout || '').trim().split('\n').pop() || '{}';
+  try {
+    return { spec, ...JSON.parse(line) };
+  } catch {
+    return { spec, error: `no result (exit ${r.status}): ${(r.stderr || '').slice(-400)}` };
+  }
+}
+const f = (x: unknown, d = 2) => (typeof x === 'number' ? (Math.abs(x) >= 1e5 ? x.toExponential(2) : x.toFixed(d)) : String(x ?? '—'));
+const mb = (x: unknown) => (typeof x === 'number' ? `${(x / 2 ** 20).toFixed(0)} MB` : '—');
+function table(title: string, head: string[], rows: string[][]) {
+  const w = head.map((h, i) => Math.max(h.length, ...rows.map((r) => r[i].length)));
+  console.log(`\n${title}`);
+  console.log(head.map((h, i) => h.padEnd(w[i])).join('  '));
+  console.log(w.map((n) => '-'.repeat(n)).join('  '));
+  for (const r of rows) console.log(r.map((c, i) => c.padEnd(w[i])).join('  '));
+}
+
+const results: Record<string, Row[]> = {};
+const neural = ['sphere_sdf.onnx', 'torus_sdf.onnx', 'lantern_density.onnx'];
+const grids = ['sphere_sdf_grid64.npy', 'birdbath_sdf_grid128.npy'];
+const haveFixtures = existsSync(resolve(SHARED, 'manifest.json'));
+if (!haveFixtures) console.log(`note: ${SHARED} is absent; fixture cases skipped`);
+
+// 1. Raw inference throughput, 1 vs 2 intra-op threads (chooses the default), at the sampler's batch size.
+if (haveFixtures) {
+  results.inference = [];
+  for (const file of neural)
+    for (const threads of [1, 2])
+      for (const batch of quick ? [65536] : [16384, 65536, 262144]) results.inference.push(runCase({ type: 'inference', file: resolve(SHARED, file), batch, threads }));
+  table('Raw inference (nothing else running): points per second', ['model', 'threads', 'batch', 'points/s'], results.inference.map((r) => [String((r.spec as Row).file).split('/').pop()!, String((r.spec as Row).threads), String((r.spec as Row).batch), f(r.pointsPerSecond, 0)]));
+}
+
+// 2. The pipeline on every fixture at depth 7 and 9.
+if (haveFixtures) {
+  results.fixtures = [];
+  for (const file of [...neural, ...grids]) for (const depth of quick ? [7] : [7, 9]) results.fixtures.push(runCase({ type: 'pipeline', file: resolve(SHARED, file), depth }));
+  table(
+    'Fixtures through the whole pipeline (seconds per stage; evaluations vs the dense lattice)',
+    ['fixture', 'depth', 'evals', 'dense', 'evals %', 'sample', 'extract', 'color', 'check', 'export', 'total', 'outside inference', 'triangles', 'peak RSS'],
+    results.fixtures.map((r) => {
+      const t = (r.timings ?? {}) as Row;
+      return [String((r.spec as Row).file).split('/').pop()!, String((r.spec as Row).depth), f(r.evaluations, 0), f(r.denseEvaluations, 0), f((100 * (r.evaluations as number)) / (r.denseEvaluations as number), 3), f(t.sample), f(t.extract), f(t.color), f(t.check), f(t.export), f(t.total), `${f(100 * (r.outsideInferenceShare as number), 1)}%`, f(r.triangles, 0), mb(r.peakRss)].map(String);
+    }),
+  );
+}
+
+// 3. Against the usual way (evaluate the whole lattice, then contour) at depth 8 (and 9, extrapolated from slabs).
+if (haveFixtures && !quick) {
+  results.usual = [];
+  for (const file of neural) {
+    const ours = runCase({ type: 'pipeline', file: resolve(SHARED, file), depth: 8 });
+    const usual = runCase({ type: 'usual', file: resolve(SHARED, file), depth: 8 });
+    const ours9 = results.fixtures?.find((r) => (r.spec as Row).file === resolve(SHARED, file) && (r.spec as Row).depth === 9);
+    const usual9 = runCase({ type: 'usual', file: resolve(SHARED, file), depth: 9, slabs: 8 });
+    results.usual.push({ file, ours, usual, ours9, usual9 });
+  }
+  table(
+    'Adaptive vs the usual way (dense evaluation + marching cubes), same mesh',
+    ['model', 'depth', 'ours s', 'usual s', 'speed-up', 'ours tris', 'usual tris', 'note'],
+    results.usual.flatMap((r) => {
+      const o = r.ours as Row, u = r.usual as Row, o9 = (r.ours9 ?? {}) as Row, u9 = r.usual9 as Row;
+      const ot = (o.timings as Row | undefined)?.total as number, o9t = (o9.timings as Row | undefined)?.total as number;
+      return [
+        [String(r.file), '8', f(ot), f(u.seconds), `${f((u.seconds as number) / ot, 1)}×`, f(o.triangles, 0), f(u.triangles, 0), 'both measured'],
+        [String(r.file), '9', f(o9t), f(u9.seconds), `${f((u9.seconds as number) / o9t, 1)}×`, f(o9.triangles, 0), '—', 'usual: extrapolated from 8 timed slabs, evaluation only'],
+      ];
+    }),
+  );
+}
+
+// 4. A recipe prop at depths 8, 9, 10: scaling and memory.
+results.recipe = [];
+for (const depth of quick ? [8] : [8, 9, 10]) results.recipe.push(runCase({ type: 'pipeline', file: resolve(ROOT, 'assets/demo/lantern-post.recipe.json'), depth }));
+table(
+  'Recipe prop (lantern post): growth per depth level (a surface should grow about 4×, not 8×)',
+  ['depth', 'evaluations', 'ratio', 'total s', 'ratio', 'triangles', 'peak RSS'],
+  results.recipe.map((r, i) => {
+    const p = i > 0 ? results.recipe[i - 1] : undefined;
+    const t = ((r.timings ?? {}) as Row).total as number;
+    const pt = p ? (((p.timings ?? {}) as Row).total as number) : NaN;
+    return [String((r.spec as Row).depth), f(r.evaluations, 0), p ? `${f((r.evaluations as number) / (p.evaluations as number))}×` : '', f(t), p ? `${f(t / pt)}×` : '', f(r.triangles, 0), mb(r.peakRss)];
+  }),
+);
+
+// 5. Dense grids: extraction against the isosurface package and VTK's vtkFlyingEdges3D (single-threaded).
+results.grids = [];
+for (const n of no512 ? [128, 256] : [128, 256, 512]) for (const shape of ['sphere', 'lattice']) results.grids.push(runCase({ type: 'grid', shape, n, isosurface: n <= 128 }));
+table(
+  'Dense grids: million voxels per second (same values, same run)',
+  ['grid', 'ours', 'vtkFlyingEdges3D', 'ours/vtk', 'isosurface pkg', 'ours tris', 'vtk tris', 'ours χ', 'vtk χ', 'blocks touched', 'peak RSS'],
+  results.grids.map((r) => {
+    const o = (r.ours ?? {}) as Row, v = (r.vtk ?? {}) as Row, i = (r.isosurface ?? {}) as Row;
+    const s = r.spec as Row;
+    return [
+      `${s.shape} ${s.n}³`, f((o.voxelsPerSecond as number) / 1e6, 1), v.skipped ? String(v.skipped) : f((v.voxelsPerSecond as number) / 1e6, 1),
+      v.voxelsPerSecond ? `${f((o.voxelsPerSecond as number) / (v.voxelsPerSecond as number))}×` : '—', i.voxelsPerSecond ? f((i.voxelsPerSecond as number) / 1e6, 1) : '—',
+      f(o.triangles, 0), f(v.triangles, 0), f(o.euler, 0), f(v.euler, 0), `${o.activeBlocks}/${o.totalBlocks}`, mb(r.peakRss),
+    ];
+  }),
+);
+
+mkdirSync(resolve(ROOT, 'bench-results'), { recursive: true });
+const out = resolve(ROOT, 'bench-results', 'bench.json');
+writeFileSync(out, JSON.stringify({ date: new Date().toISOString(), node: process.version, results }, null, 2));
+console.log(`\nwrote ${out}`);
