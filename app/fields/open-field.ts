@@ -22,6 +22,7 @@ import { createGridField } from '../../core/fields/grid-field.js';
 import { createNeuralField, type NeuralValueInfo } from '../../core/fields/neural-field.js';
 import { OnnxFormatError, readOnnxModelInfo } from '../../core/fields/onnx-metadata.js';
 import { createRecipeField } from '../../core/fields/recipe/recipe-field.js';
+import { poolField } from '../node/field-worker-pool.js';
 
 /** Command-line values that win over what the file declares. */
 export interface FieldOverrides {
@@ -39,6 +40,8 @@ export interface OpenFieldOptions {
   batchSize?: number;
   /** onnxruntime intra-op threads. Default: ONNX_SESSION_OPTIONS.intraOpNumThreads. */
   intraOpNumThreads?: number;
+  /** Worker threads for JavaScript fields (recipes, grids). Default: the number of cores. 1 = no workers. */
+  workers?: number;
 }
 
 /** The extensions {@link openField} reads, with what each holds. */
@@ -93,8 +96,8 @@ export async function openField(filePath: string, overrides: FieldOverrides = {}
   }
   const bytes = await readBytes(filePath, name);
   if (ext === '.onnx') return openOnnx(bytes, name, overrides, options);
-  if (ext === '.npy') return openGrid(bytes, filePath, name, overrides);
-  return openRecipe(bytes, name, overrides);
+  if (ext === '.npy') return openGrid(bytes, filePath, name, overrides, options);
+  return openRecipe(bytes, name, overrides, options);
 }
 
 async function openOnnx(bytes: Uint8Array, name: string, overrides: FieldOverrides, options: OpenFieldOptions): Promise<Field> {
@@ -159,7 +162,7 @@ async function openOnnx(bytes: Uint8Array, name: string, overrides: FieldOverrid
   }
 }
 
-async function openGrid(bytes: Uint8Array, filePath: string, name: string, overrides: FieldOverrides): Promise<Field> {
+async function openGrid(bytes: Uint8Array, filePath: string, name: string, overrides: FieldOverrides, options: OpenFieldOptions): Promise<Field> {
   const dir = path.dirname(filePath);
   const sidecarPath = path.join(dir, `${path.basename(filePath, path.extname(filePath))}.json`);
   const sidecarName = path.basename(sidecarPath);
@@ -203,10 +206,19 @@ async function openGrid(bytes: Uint8Array, filePath: string, name: string, overr
     if (overrides.bounds !== undefined) merged.bounds = overrides.bounds;
     if (overrides.level !== undefined) merged.level = overrides.level;
   }
-  return createGridField({ values: grid.data, shape, sidecar: merged, name, colors });
+  // The samples move into shared memory once, so every worker reads the same copy.
+  const share = (a: Float32Array) => {
+    const sab = new SharedArrayBuffer(a.byteLength);
+    new Float32Array(sab).set(a);
+    return sab;
+  };
+  const values = share(grid.data);
+  const colorBuf = colors ? share(colors) : undefined;
+  const field = createGridField({ values: new Float32Array(values), shape, sidecar: merged, name, colors: colorBuf ? new Float32Array(colorBuf) : undefined });
+  return poolField(field, { source: 'grid', values, shape, sidecar: merged, name, colors: colorBuf }, options.workers);
 }
 
-function openRecipe(bytes: Uint8Array, name: string, overrides: FieldOverrides): Field {
+function openRecipe(bytes: Uint8Array, name: string, overrides: FieldOverrides, options: OpenFieldOptions): Field {
   let text: string;
   try {
     text = new TextDecoder('utf-8', { fatal: true }).decode(bytes);
@@ -225,7 +237,7 @@ function openRecipe(bytes: Uint8Array, name: string, overrides: FieldOverrides):
   checkOverrides(overrides, name);
   let field: Field;
   try {
-    field = createRecipeField(text, name);
+    field = poolField(createRecipeField(text, name), { source: 'recipe', text, name }, options.workers);
   } catch (e) {
     // The recipe reader's messages start with `recipe:`; put the file name first like every other source.
     if (e instanceof FieldkilnError && !e.message.startsWith(`${name}:`)) throw new FieldkilnError(`${name}: ${e.message}`);
