@@ -3,7 +3,7 @@
  * target folder, which is renamed over the target only when complete. Temporary files still open
  * when the process is interrupted (SIGINT, SIGTERM) are removed before it exits.
  */
-import { closeSync, constants, existsSync, fsyncSync, openSync, renameSync, statSync, unlinkSync, writeSync, accessSync } from 'node:fs';
+import { accessSync, closeSync, constants, existsSync, fsyncSync, openSync, readdirSync, renameSync, statSync, unlinkSync, writeSync } from 'node:fs';
 import { basename, dirname, join, resolve } from 'node:path';
 import { FieldkilnError } from '../../core/types.js';
 
@@ -49,10 +49,43 @@ export function checkWritable(path: string, overwrite: boolean, what = 'output')
   }
 }
 
+/**
+ * Removes temporary files for `abs` left by Fieldkiln processes that no longer run (a SIGKILL during
+ * the write itself is the one case a process cannot clean up after).
+ */
+function removeStaleTemps(abs: string): void {
+  const prefix = `.${basename(abs)}.fieldkiln-tmp-`;
+  let names: string[];
+  try {
+    names = readdirSync(dirname(abs));
+  } catch {
+    return;
+  }
+  for (const n of names) {
+    if (!n.startsWith(prefix)) continue;
+    const pid = Number(n.slice(prefix.length).split('-')[0]);
+    if (!Number.isInteger(pid) || pid === process.pid) continue;
+    let alive = true;
+    try {
+      process.kill(pid, 0);
+    } catch (e) {
+      alive = (e as NodeJS.ErrnoException).code === 'EPERM';
+    }
+    if (!alive) {
+      try {
+        unlinkSync(join(dirname(abs), n));
+      } catch {
+        /* gone */
+      }
+    }
+  }
+}
+
 /** Writes `bytes` to `path` through a temporary file and a rename. */
 export function writeFileAtomic(path: string, bytes: Uint8Array | string): void {
   installHandlers();
   const abs = resolve(path);
+  removeStaleTemps(abs);
   const tmp = join(dirname(abs), `.${basename(abs)}.fieldkiln-tmp-${process.pid}-${Math.random().toString(36).slice(2, 8)}`);
   pending.add(tmp);
   try {
