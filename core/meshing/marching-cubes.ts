@@ -6,7 +6,10 @@
  * closed inside the lattice it is watertight, edge- and vertex-manifold and wound outward.
  *
  * - One vertex per sign-changing lattice edge, created once and shared (an edge map, as in libigl's
- *   marching cubes), so the mesh is indexed by construction: no welding by float comparison.
+ *   marching cubes), so the mesh is indexed by construction: no welding by float comparison. The
+ *   cells arrive sorted by z, so the map is two planes of flat arrays (the cells' lower and upper node
+ *   planes, stamped with their z so nothing needs clearing) when a plane has at most
+ *   `PLANE_INDEX_LIMIT` nodes, and a hash map beyond that.
  * - Vertices are placed by linear interpolation; the parameter is kept within [ε, 1 − ε] of the edge
  *   (ε = `EDGE_MARGIN`) so that a sample exactly at the level never puts two vertices on one corner.
  *   Three distinct points in the relative interiors of cube edges are never collinear (a line meets a
@@ -23,6 +26,9 @@ import { cellLoops, EDGE_AXIS, EDGE_CORNERS, FACE_UV_CORNERS, insideJoined, isAm
 /** Fraction of an edge's length that a vertex keeps from either end. */
 export const EDGE_MARGIN = 1e-3;
 
+/** Largest node plane ((nx+1)·(ny+1)) indexed by flat arrays: 2^21 nodes is 48 MB for both planes, depth 10 on a cube. */
+export const PLANE_INDEX_LIMIT = 2 ** 21;
+
 /**
  * Triangulates the surface cells. Returns positions (3 floats per vertex, metres) and indices
  * (3 per triangle), counter-clockwise seen from outside.
@@ -35,12 +41,29 @@ export function marchingCubes(cells: SurfaceCells): MeshData {
   const [nx, ny] = lattice.cells;
   const h = lattice.cellSize;
   const [ox, oy, oz] = lattice.origin;
-  const edgeVertex = new KeyMap(count * 2);
+  const planeN = (nx + 1) * (ny + 1);
+  const usePlanes = planeN <= PLANE_INDEX_LIMIT;
+  const edgeVertex = usePlanes ? null : new KeyMap(count * 2);
+  // Planes of vertex ids (slot·3 + axis) and the z each slot was written for (+1; 0 = never).
+  let ids0 = usePlanes ? new Int32Array(planeN * 3) : null;
+  let ids1 = usePlanes ? new Int32Array(planeN * 3) : null;
+  let st0 = usePlanes ? new Int32Array(planeN * 3) : null;
+  let st1 = usePlanes ? new Int32Array(planeN * 3) : null;
+  let planeZ = -1;
   const out = new MeshBuilder(count * 2);
   const v = new Float64Array(8);
   const loopIds: number[] = [];
   for (let c = 0; c < count; c++) {
     const i = coords[3 * c], j = coords[3 * c + 1], k = coords[3 * c + 2];
+    if (usePlanes && k !== planeZ) {
+      // Moving up one: the old upper plane becomes the lower one. Otherwise no slot matches anyway,
+      // since every stamp names the z it was written for.
+      if (k === planeZ + 1) {
+        [ids0, ids1] = [ids1, ids0];
+        [st0, st1] = [st1, st0];
+      }
+      planeZ = k;
+    }
     let mask = 0;
     for (let q = 0; q < 8; q++) {
       v[q] = corners[8 * c + q];
@@ -58,15 +81,25 @@ export function marchingCubes(cells: SurfaceCells): MeshData {
         const [c0, c1] = EDGE_CORNERS[e];
         const a = EDGE_AXIS[e];
         const i0 = i + (c0 & 1), j0 = j + ((c0 >> 1) & 1), k0 = k + ((c0 >> 2) & 1);
-        const key = 3 * (i0 + (nx + 1) * (j0 + (ny + 1) * k0)) + a;
-        let id = edgeVertex.get(key);
+        let id: number;
+        let slot = 0;
+        let ids: Int32Array | null = null;
+        let st: Int32Array | null = null;
+        if (usePlanes) {
+          slot = 3 * (i0 + (nx + 1) * j0) + a;
+          [ids, st] = k0 === k ? [ids0!, st0!] : [ids1!, st1!];
+          id = st[slot] === k0 + 1 ? ids[slot] : NaN;
+        } else id = edgeVertex!.get(3 * (i0 + (nx + 1) * (j0 + (ny + 1) * k0)) + a);
         if (Number.isNaN(id)) {
           const s0 = v[c0], s1 = v[c1];
           let t = s0 / (s0 - s1);
           if (!(t >= EDGE_MARGIN)) t = EDGE_MARGIN;
           else if (t > 1 - EDGE_MARGIN) t = 1 - EDGE_MARGIN;
           id = out.addVertex(ox + h * (i0 + (a === 0 ? t : 0)), oy + h * (j0 + (a === 1 ? t : 0)), oz + h * (k0 + (a === 2 ? t : 0)));
-          edgeVertex.set(key, id);
+          if (usePlanes) {
+            ids![slot] = id;
+            st![slot] = k0 + 1;
+          } else edgeVertex!.set(3 * (i0 + (nx + 1) * (j0 + (ny + 1) * k0)) + a, id);
         }
         loopIds.push(id);
       }
