@@ -14,6 +14,7 @@ export interface PackageTarget {
   arch: 'x64' | 'arm64';
 }
 
+/** The shape of {@link ELECTRON_CONFIG}. */
 export interface FieldkilnElectronConfig {
   /** Reverse-DNS id (Windows AppUserModelID, macOS bundle id). */
   appId: string;
@@ -39,6 +40,7 @@ export interface FieldkilnElectronConfig {
   files: string[];
 }
 
+/** Fieldkiln's app configuration (see the file header). */
 export const ELECTRON_CONFIG: FieldkilnElectronConfig = {
   appId: 'app.fieldkiln.desktop',
   productName: 'Fieldkiln',
@@ -68,7 +70,10 @@ export const ELECTRON_CONFIG: FieldkilnElectronConfig = {
     'node_modules/onnxruntime-node/**',
     'node_modules/onnxruntime-common/**',
     'node_modules/@gltf-transform/core/**',
+    'node_modules/@gltf-transform/extensions/**',
     'node_modules/property-graph/**',
+    'node_modules/ktx-parse/**',
+    'node_modules/meshoptimizer/**',
     'node_modules/gltf-validator/**',
   ],
 };

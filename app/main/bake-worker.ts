@@ -10,28 +10,47 @@ import { readFile, stat } from 'node:fs/promises';
 import { createRequire } from 'node:module';
 import { parentPort, workerData } from 'node:worker_threads';
 import type { Field } from '../../core/fields/field.js';
+import * as bakeModule from '../../core/pipeline/bake-field.js';
 import { bakeField, BAKE_DEFAULTS, MESHING_METHODS, type BakeOptions, type BakeReport } from '../../core/pipeline/bake-field.js';
+import { EXPORT_FORMATS as CORE_EXPORT_FORMATS, exportMesh, isGltfFormat } from '../../core/export/export-mesh.js';
 import { probeField } from '../../core/sampling/probe-field.js';
 import { SAMPLE_OCTREE_DEFAULTS } from '../../core/sampling/sample-octree.js';
 import { collectProblemEdges } from '../../core/checks/collect-problem-edges.js';
-import { writeGlb } from '../../core/export/write-glb.js';
-import { CancelledError, FieldkilnError, type MeshData } from '../../core/types.js';
+import type { WriteGlbOptions } from '../../core/export/write-glb.js';
+import { CancelledError, FieldkilnError, type Bounds, type MeshData } from '../../core/types.js';
 import { openField } from '../fields/open-field.js';
 import { writeFileAtomic } from '../node/atomic-write.js';
-import type { BakeRequest, BakeResult, BakeSettings, ExportRequest, ExportResult, MeshPayload, ValidatorVerdict, Verdict } from '../shared/ipc.js';
+import { BAKE_SETTING_KEYS, EXPORT_FORMATS, type BakeRequest, type BakeResult, type BakeSettings, type ExportRequest, type ExportResult, type MeshPayload, type ValidatorVerdict, type Verdict } from '../shared/ipc.js';
 import { chooseLevelRange } from './choose-level-range.js';
 import type { FieldFacts, WorkerReply, WorkerRequest, WorkerStartData } from './worker-messages.js';
 
 /** Depth the window starts at, and the range its depth slider offers (core accepts more; deeper is slow). */
 export const APP_DEPTHS = { start: BAKE_DEFAULTS.depth, min: 3, max: 10 };
-/** A preview samples this many levels shallower than the depth asked for (8× fewer cells per level dropped along each axis … 4× fewer surface cells). */
-export const PREVIEW_DEPTH_DROP = 2;
+/**
+ * A preview samples one level shallower than asked (8× fewer cells), never deeper than
+ * {@link PREVIEW_MAX_DEPTH}, and shallower still when previews of this field run slow: each level
+ * costs about 4× the time of the one above, so after a preview slower than
+ * {@link PREVIEW_TARGET_SECONDS} × 1.5 the next one drops a level, and after one faster than a
+ * quarter of it the next one climbs back. On the lantern-post demo, depth-6 previews took
+ * 0.28–0.56 s on our busy 2-core machine; on the neural lantern_density.onnx fixture 3.4–4.4 s,
+ * so its previews settle two levels lower.
+ */
+export const PREVIEW_MAX_DEPTH = 6;
 /** The shallowest preview. */
 export const PREVIEW_MIN_DEPTH = 3;
+/** How long a preview should take, seconds (a fraction of a second keeps a moving slider live). */
+export const PREVIEW_TARGET_SECONDS = 0.35;
 
-/** Depth a preview samples for a requested depth. */
-export function previewDepth(depth: number): number {
-  return Math.max(Math.min(depth, PREVIEW_MIN_DEPTH), depth - PREVIEW_DEPTH_DROP);
+/** Depth a preview samples for a requested depth, given the deepest preview the field allows now. */
+export function previewDepth(depth: number, cap = PREVIEW_MAX_DEPTH): number {
+  return Math.min(depth, Math.max(PREVIEW_MIN_DEPTH, Math.min(depth - 1, cap)));
+}
+
+/** The next preview cap after a preview that took `seconds` at `cap`. */
+export function nextPreviewCap(cap: number, seconds: number): number {
+  if (seconds > PREVIEW_TARGET_SECONDS * 1.5) return Math.max(PREVIEW_MIN_DEPTH, cap - 1);
+  if (seconds < PREVIEW_TARGET_SECONDS / 4) return Math.min(PREVIEW_MAX_DEPTH, cap + 1);
+  return cap;
 }
 
 /**
@@ -41,6 +60,17 @@ export function previewDepth(depth: number): number {
 export function shapingSupport(): { budget: boolean; lods: boolean; minPart: boolean } {
   const d = BAKE_DEFAULTS as Record<string, unknown>;
   return { budget: 'budget' in d, lods: 'lods' in d, minPart: 'minPart' in d };
+}
+
+/** The normal methods bakeField offers (its NORMALS_METHODS), or none when it offers no choice. */
+export function normalsMethods(): string[] {
+  const m = (bakeModule as Record<string, unknown>).NORMALS_METHODS;
+  return Array.isArray(m) && 'normals' in BAKE_DEFAULTS ? m.filter((x): x is string => typeof x === 'string') : [];
+}
+
+/** The export formats both core and the IPC contract know. */
+export function exportFormats(): (typeof EXPORT_FORMATS)[number][] {
+  return EXPORT_FORMATS.filter((f) => (CORE_EXPORT_FORMATS as readonly string[]).includes(f));
 }
 
 interface OpenState {
@@ -64,6 +94,7 @@ if (port) {
   const cancel = new Int32Array((workerData as WorkerStartData).cancel);
   let open: OpenState | undefined;
   let full: FullState | undefined;
+  let previewCap = PREVIEW_MAX_DEPTH;
   let queue: Promise<void> = Promise.resolve();
   const post = (m: WorkerReply, transfer: ArrayBuffer[] = []) => port.postMessage(m, transfer);
 
@@ -103,6 +134,7 @@ if (port) {
       const previous = open;
       open = { field, path, name: field.description.name, sha256, bytes: fileBytes.length };
       full = undefined;
+      previewCap = PREVIEW_MAX_DEPTH;
       await previous?.field.dispose?.();
       const orNull = (v: number) => (Number.isFinite(v) ? v : null);
       return {
@@ -120,6 +152,8 @@ if (port) {
         depth: { start: APP_DEPTHS.start, min: APP_DEPTHS.min, max: APP_DEPTHS.max, preview: previewDepth(APP_DEPTHS.start) },
         methods: [...MESHING_METHODS],
         shaping: shapingSupport(),
+        normalsMethods: normalsMethods(),
+        exportFormats: exportFormats(),
         details: formatDetails(field.description.details ?? {}),
       };
     } catch (e) {
@@ -162,6 +196,10 @@ if (port) {
       depth,
       level: settings.level,
       method: settings.method as BakeOptions['method'],
+      nonfinite: settings.nonfinite,
+      ...(settings.bounds ? { bounds: [...settings.bounds] as Bounds } : {}),
+      ...(settings.lipschitz !== null ? { lipschitz: settings.lipschitz } : {}),
+      ...(settings.startDepth !== null ? { startDepth: settings.startDepth } : {}),
       skipExport: true,
       signal: controller.signal,
       onProgress: (stage, fraction) => {
@@ -173,6 +211,7 @@ if (port) {
     if (support.budget && settings.budget > 0) options.budget = settings.budget;
     if (support.lods && settings.lods > 0) options.lods = settings.lods;
     if (support.minPart && settings.minPart > 0) options.minPart = settings.minPart;
+    if (normalsMethods().includes(settings.normals)) options.normals = settings.normals;
     const result = await bakeField(field, options);
     if (isCancelled(id)) throw new CancelledError();
     return result;
@@ -180,8 +219,10 @@ if (port) {
 
   const doBake = async (id: number, request: BakeRequest): Promise<{ result: BakeResult; transfer: ArrayBuffer[] }> => {
     const { quality, ...settings } = request;
-    const depth = quality === 'preview' ? previewDepth(settings.depth) : settings.depth;
+    const depth = quality === 'preview' ? previewDepth(settings.depth, previewCap) : settings.depth;
+    const t0 = performance.now();
     const result = await runBake(id, settings, depth, quality);
+    if (quality === 'preview' && depth === previewCap) previewCap = nextPreviewCap(previewCap, (performance.now() - t0) / 1000);
     const lods = lodsOf(result);
     if (quality === 'full') full = { key: settingsKey(settings), settings, mesh: result.mesh, lods, report: result.report };
     const problemEdges =
@@ -197,12 +238,15 @@ if (port) {
       level: settings.level,
       mesh: toPayload(result.mesh),
       lods: lods.map(toPayload),
+      lodErrorsMm: lodErrorsMm(result.report, lods.length),
       problemEdges,
       verdict: verdictOf(result.report),
     };
     const transfer =
       quality === 'preview'
-        ? [bake.mesh.positions, bake.mesh.normals, bake.mesh.indices, bake.mesh.colors, problemEdges.open, problemEdges.nonManifold]
+        ? [bake.mesh, ...bake.lods]
+            .flatMap((m) => [m.positions, m.normals, m.indices, m.colors])
+            .concat([problemEdges.open, problemEdges.nonManifold])
             .filter((a): a is Float32Array | Uint32Array => a !== undefined && a.byteLength > 0)
             .map((a) => a.buffer as ArrayBuffer)
         : [];
@@ -218,27 +262,53 @@ if (port) {
     const chosen = request.lod === 0 ? full.mesh : full.lods[request.lod - 1];
     if (!chosen) throw new FieldkilnError(`there is no level of detail ${request.lod}; this bake has ${full.lods.length} lighter copies`);
     post({ type: 'progress', id, job: 'export', stage: 'export', fraction: 0 });
-    const mesh: MeshData = { positions: chosen.positions, indices: chosen.indices, normals: chosen.normals, colors: request.colors ? chosen.colors : undefined };
+    const withColors = (m: MeshData): MeshData => ({ positions: m.positions, indices: m.indices, normals: m.normals, colors: request.colors ? m.colors : undefined });
     const s = full.settings;
-    const glb = await writeGlb(mesh, {
+    const gltf = isGltfFormat(request.format);
+    const writeOptions: WriteGlbOptions = {
       name: request.name,
       extras: {
         source: { kind: open.field.kind, name: open.name, file: open.name, sha256: open.sha256, bytes: open.bytes },
-        options: { depth: s.depth, level: s.level, bounds: open.field.bounds, method: s.method, ...(request.lod > 0 ? { lod: request.lod } : {}) },
+        options: {
+          depth: s.depth,
+          level: s.level,
+          bounds: s.bounds ?? open.field.bounds,
+          method: s.method,
+          ...(s.lipschitz !== null ? { lipschitz: s.lipschitz } : {}),
+          ...(s.startDepth !== null ? { startDepth: s.startDepth } : {}),
+          ...(s.nonfinite !== 'error' ? { nonfinite: s.nonfinite } : {}),
+          ...(s.budget > 0 ? { budget: s.budget } : {}),
+          ...(s.lods > 0 ? { lods: s.lods } : {}),
+          ...(s.minPart > 0 ? { minPart: s.minPart } : {}),
+          ...(normalsMethods().length > 0 ? { normals: s.normals } : {}),
+          ...(request.lod > 0 ? { lod: request.lod } : {}),
+          ...(gltf ? { quantize: request.quantize || request.meshopt, meshopt: request.meshopt } : {}),
+        },
       },
-    });
+      // glTF keeps the lighter copies as further levels (core names them _LOD<i>); other formats hold one mesh.
+      ...(gltf && request.lod === 0 && full.lods.length > 0 ? { lods: full.lods.map(withColors) } : {}),
+      ...(gltf ? { quantize: request.quantize || request.meshopt, meshopt: request.meshopt } : {}),
+    };
+    const fileBytes = await exportMesh(request.format, withColors(chosen), writeOptions);
     if (isCancelled(id)) throw new CancelledError();
-    writeFileAtomic(path, glb);
+    writeFileAtomic(path, fileBytes);
     const bytes = (await stat(path)).size;
-    post({ type: 'progress', id, job: 'export', stage: 'validate', fraction: 0.5 });
-    const validator = await validateGlb(glb);
+    let validator: ValidatorVerdict | null = null;
+    if (gltf) {
+      post({ type: 'progress', id, job: 'export', stage: 'validate', fraction: 0.5 });
+      validator = await validateGltf(fileBytes).catch((e: unknown) => {
+        // gltf-validator is a devDependency today; a package built without it still exports.
+        if ((e as NodeJS.ErrnoException)?.code === 'MODULE_NOT_FOUND') return null;
+        throw e;
+      });
+    }
     return { bytes, format: request.format, validator };
   };
 }
 
 /** The key of a bake's settings: two settings give the same mesh when their keys are equal. */
 function settingsKey(s: BakeSettings): string {
-  return JSON.stringify([s.level, s.depth, s.method, s.budget, s.lods, s.minPart]);
+  return JSON.stringify(BAKE_SETTING_KEYS.map((k) => s[k]));
 }
 
 function toPayload(m: MeshData): MeshPayload {
@@ -275,18 +345,20 @@ export function verdictOf(report: BakeReport): Verdict {
   };
 }
 
-/** The shaping error in millimetres, when the report carries one (metres × 1000). */
+/**
+ * The shaping error in millimetres: the report's `decimation.maxError` (metres, measured from the
+ * unreduced mesh) when a budget was set; null without one, or when core reports none.
+ */
 function errorMmOf(report: BakeReport): number | null {
-  const r = report as unknown as Record<string, Record<string, unknown> | undefined>;
-  for (const section of ['shaping', 'simplify', 'mesh']) {
-    const s = r[section];
-    if (!s) continue;
-    if (typeof s.errorMm === 'number') return s.errorMm;
-    if (typeof s.maxErrorMm === 'number') return s.maxErrorMm;
-    if (typeof s.error === 'number') return s.error * 1000;
-    if (typeof s.maxError === 'number') return s.maxError * 1000;
-  }
-  return null;
+  const d = (report as unknown as { decimation?: { targetTriangles?: number | null; maxError?: number } }).decimation;
+  if (!d || d.targetTriangles === null || d.targetTriangles === undefined || typeof d.maxError !== 'number') return null;
+  return d.maxError * 1000;
+}
+
+/** Each lighter copy's error in millimetres (the report's `lods[i].maxError`, metres). */
+function lodErrorsMm(report: BakeReport, count: number): number[] {
+  const lods = (report as unknown as { lods?: { maxError?: number }[] }).lods;
+  return Array.from({ length: count }, (_, i) => (Array.isArray(lods) && typeof lods[i]?.maxError === 'number' ? lods[i].maxError! * 1000 : NaN));
 }
 
 function formatDetails(details: Record<string, unknown>): Record<string, string> {
@@ -304,11 +376,15 @@ interface GltfValidatorReport {
   issues: { numErrors: number; numWarnings: number; numInfos: number; messages: { code: string; message: string; severity: number }[] };
 }
 
-/** Runs gltf-validator on GLB bytes (it has no types; loaded through require). */
-export async function validateGlb(glb: Uint8Array): Promise<ValidatorVerdict> {
+/**
+ * Runs gltf-validator on GLB or self-contained glTF JSON bytes (it has no types; loaded through
+ * require). It does not check data inside EXT_meshopt_compression (DEPENDENCIES.md §5): such a file
+ * gets an UNSUPPORTED_EXTENSION note, not errors.
+ */
+export async function validateGltf(bytes: Uint8Array): Promise<ValidatorVerdict> {
   const require = createRequire(import.meta.url);
   const validator = require('gltf-validator') as { validateBytes(data: Uint8Array, options?: { maxIssues?: number }): Promise<GltfValidatorReport> };
-  const r = await validator.validateBytes(glb, { maxIssues: 20 });
+  const r = await validator.validateBytes(bytes, { maxIssues: 20 });
   return {
     errors: r.issues.numErrors,
     warnings: r.issues.numWarnings,

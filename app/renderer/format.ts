@@ -45,7 +45,10 @@ const STAGE_WORDS: Record<string, string> = {
   probe: 'Surveying its values',
   sample: 'Sampling the field',
   extract: 'Building triangles',
-  normals: 'Smoothing normals',
+  cleanup: 'Cleaning up',
+  normals: 'Finding normals',
+  decimate: 'Reducing triangles',
+  bake: 'Painting colors',
   color: 'Painting colors',
   check: 'Checking the surface',
   export: 'Writing the file',
@@ -58,8 +61,13 @@ export function stageWords(stage: string): string {
   return STAGE_WORDS[stage] ?? stage.charAt(0).toUpperCase() + stage.slice(1).replace(/[-_]/g, ' ');
 }
 
-/** A message with its first letter raised: core's messages start in lower case. */
+/**
+ * A message with its first letter raised (core's messages start in lower case), unless it starts
+ * with a file name (`ball.onnx: …`), which keeps its spelling.
+ */
 export function sentence(text: string): string {
   const t = text.trim();
+  const first = /^\S+/.exec(t)?.[0] ?? '';
+  if (/[./\\_]/.test(first.replace(/[:,]$/, ''))) return t;
   return t.charAt(0).toUpperCase() + t.slice(1);
 }

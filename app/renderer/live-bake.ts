@@ -6,6 +6,7 @@
  */
 import type { BakeQuality, BakeRequest, BakeResult, BakeSettings, Reply } from '../shared/ipc.js';
 
+/** What {@link createLiveBake} needs from the window. */
 export interface LiveBakeHooks {
   /** The controls' settings now. */
   settings(): BakeSettings;
@@ -21,6 +22,7 @@ export interface LiveBakeHooks {
   onCancelled(quality: BakeQuality): void;
 }
 
+/** The scheduler's three requests. */
 export interface LiveBake {
   /** A control is moving: show a coarse preview soon. */
   preview(): void;
@@ -32,6 +34,15 @@ export interface LiveBake {
   readonly busy: boolean;
 }
 
+/**
+ * Creates the scheduler over `hooks` (the window's settings, window.api.bake, and what to do with
+ * answers).
+ *
+ * @example
+ * const live = createLiveBake({ settings, bake: (r) => window.api.bake(r), onResult: show, onError, onBusy, onCancelled });
+ * slider.addEventListener('input', () => live.preview());
+ * slider.addEventListener('change', () => live.settle());
+ */
 export function createLiveBake(hooks: LiveBakeHooks): LiveBake {
   let seq = 0;
   let shownSeq = 0;

@@ -2,7 +2,8 @@
  * The window: binds the five steps (field, surface, shape, check, export) and the preview to
  * `window.api` (the preload's few functions). Sees only plain objects and typed arrays.
  */
-import type { BakeQuality, BakeResult, BakeSettings, ExportResult, FieldInfo, MeshPayload, ProgressEvent, Reply } from '../shared/ipc.js';
+import type { Bounds } from '../../core/types.js';
+import type { BakeQuality, BakeResult, BakeSettings, ExportFormat, ExportResult, FieldInfo, MeshPayload, ProgressEvent, Reply } from '../shared/ipc.js';
 import { formatBytes, formatCount, formatLength, formatSeconds, formatValue, sentence, stageWords } from './format.js';
 import { createLiveBake } from './live-bake.js';
 import { createViewport } from './viewport.js';
@@ -28,9 +29,13 @@ const el = {
   lodSelect: $<HTMLSelectElement>('lod-select'),
   triCount: $('tri-count'),
   qualityTag: $('quality-tag'),
+  readoutVerdict: $('readout-verdict'),
   flawLegend: $('flaw-legend'),
+  legendOpen: $('legend-open'),
+  legendShared: $('legend-shared'),
   notice: $('notice'),
   noticeText: $('notice-text'),
+  noticeDetail: $('notice-detail'),
   noticeClose: $<HTMLButtonElement>('notice-close'),
   dropHint: $('drop-hint'),
   busy: $('busy'),
@@ -53,6 +58,19 @@ const el = {
   depth: $<HTMLInputElement>('depth'),
   depthOut: $('depth-out'),
   method: $<HTMLSelectElement>('method'),
+  region: [0, 1, 2, 3, 4, 5].map((i) => $<HTMLInputElement>(`region-${i}`)),
+  regionReset: $<HTMLButtonElement>('region-reset'),
+  lipschitzRow: $('lipschitz-row'),
+  lipschitz: $<HTMLInputElement>('lipschitz'),
+  startDepthRow: $('start-depth-row'),
+  startDepth: $<HTMLInputElement>('start-depth'),
+  nonfinite: $<HTMLSelectElement>('nonfinite'),
+  exportLodNote: $('export-lod-note'),
+  normalsRow: $('normals-row'),
+  normals: $<HTMLSelectElement>('normals'),
+  gltfOptions: $('gltf-options'),
+  exportQuantize: $<HTMLInputElement>('export-quantize'),
+  exportMeshopt: $<HTMLInputElement>('export-meshopt'),
   stepShape: $('step-shape'),
   budget: $<HTMLInputElement>('budget'),
   budgetNum: $<HTMLInputElement>('budget-num'),
@@ -97,6 +115,14 @@ const budgetFromSlider = (pos: number) => (pos <= 0 ? 0 : Math.round(BUDGET_MIN 
 const sliderFromBudget = (b: number) => (b <= 0 ? 0 : Math.round((1000 * Math.log(Math.min(Math.max(b, BUDGET_MIN), BUDGET_MAX) / BUDGET_MIN)) / Math.log(BUDGET_MAX / BUDGET_MIN)));
 let budget = 0;
 
+/** The sampling region when the user changed it (null: the field's own bounds). */
+let region: Bounds | null = null;
+
+const optionalNumber = (input: HTMLInputElement): number | null => {
+  const v = Number(input.value);
+  return input.value.trim() === '' || !Number.isFinite(v) ? null : v;
+};
+
 const settings = (): BakeSettings => ({
   level: Number(el.levelNum.value),
   depth: Number(el.depth.value),
@@ -104,13 +130,27 @@ const settings = (): BakeSettings => ({
   budget: info?.shaping.budget ? budget : 0,
   lods: info?.shaping.lods ? clampInt(Number(el.lods.value), 0, 4) : 0,
   minPart: info?.shaping.minPart ? Number(el.minPart.value) / 100 : 0,
+  normals: el.normals.value === 'mesh' ? 'mesh' : 'field',
+  bounds: region,
+  lipschitz: info?.kind === 'sdf' ? positiveOrNull(optionalNumber(el.lipschitz)) : null,
+  startDepth: info && info.kind !== 'sdf' ? intOrNull(optionalNumber(el.startDepth), 0, 12) : null,
+  nonfinite: el.nonfinite.value === 'outside' ? 'outside' : 'error',
 });
+
+function positiveOrNull(v: number | null): number | null {
+  return v !== null && v > 0 ? v : null;
+}
+function intOrNull(v: number | null, lo: number, hi: number): number | null {
+  return v === null ? null : clampInt(v, lo, hi);
+}
 
 // ---------------------------------------------------------------------------------------------
 // Notices and the progress panel
 
-function showNotice(text: string, kind: 'error' | 'info'): void {
+function showNotice(text: string, kind: 'error' | 'info', detail = ''): void {
   el.noticeText.textContent = text;
+  el.noticeDetail.textContent = detail;
+  el.noticeDetail.hidden = detail === '';
   el.notice.classList.toggle('info', kind === 'info');
   el.notice.dataset.kind = kind;
   el.notice.hidden = false;
@@ -160,6 +200,13 @@ function cancelledNotice(): void {
   if (!stopRequested) return;
   stopRequested = false;
   showNotice(shown ? 'Stopped. The last finished mesh stays on screen.' : 'Stopped.', 'info');
+  // The controls go back to the mesh on screen, so what they say is what an export would write.
+  if (shown?.quality === 'full') {
+    el.depth.value = String(shown.depth);
+    showDepth();
+    el.level.value = String(shown.level);
+    el.levelNum.value = String(shown.level);
+  }
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -187,7 +234,10 @@ function showResult(r: BakeResult): void {
   // Levels of detail, when core made them.
   if (r.lods.length > 0) {
     el.lodSelect.replaceChildren(
-      ...[r.mesh, ...r.lods].map((m, i) => new Option(`${i === 0 ? 'Full' : `LOD ${i}`} · ${formatCount(m.indices.length / 3)}`, String(i))),
+      ...[r.mesh, ...r.lods].map((m, i) => {
+        const err = i > 0 && Number.isFinite(r.lodErrorsMm[i - 1]) ? ` · ${formatValue(r.lodErrorsMm[i - 1])} mm` : '';
+        return new Option(`${i === 0 ? 'Full' : `LOD ${i}`} · ${formatCount(m.indices.length / 3)}${err}`, String(i));
+      }),
     );
     if (lodIndex > r.lods.length) lodIndex = 0;
     el.lodSelect.value = String(lodIndex);
@@ -196,15 +246,20 @@ function showResult(r: BakeResult): void {
     lodIndex = 0;
     el.lodPick.hidden = true;
   }
+  showLodNote();
   const mesh = meshOf(r, lodIndex);
   view.showMesh(mesh, frameNext);
   frameNext = false;
   view.showProblemEdges(r.problemEdges.open, r.problemEdges.nonManifold);
   el.flawLegend.hidden = r.problemEdges.open.length + r.problemEdges.nonManifold.length === 0;
+  el.legendOpen.hidden = r.problemEdges.open.length === 0;
+  el.legendShared.hidden = r.problemEdges.nonManifold.length === 0;
 
   el.triCount.textContent = formatCount(mesh.indices.length / 3);
   el.qualityTag.textContent = r.quality === 'preview' ? `preview · detail ${r.depth}` : `detail ${r.depth}`;
   el.qualityTag.classList.toggle('preview', r.quality === 'preview');
+  el.readoutVerdict.textContent = r.verdict.watertight ? '✓ watertight' : '✗ has holes';
+  el.readoutVerdict.className = r.verdict.watertight ? 'seal good' : 'seal bad';
   showVerdict(r);
 }
 
@@ -250,8 +305,16 @@ function showVerdict(r: BakeResult): void {
   );
 }
 
+function showLodNote(): void {
+  const copies = shown?.lods.length ?? 0;
+  el.exportLodNote.hidden = copies === 0;
+  el.exportLodNote.textContent =
+    lodIndex === 0 ? `Writes the full mesh with its ${copies} lighter copies as levels of detail.` : `Writes LOD ${lodIndex} alone (the level shown).`;
+}
+
 el.lodSelect.addEventListener('change', () => {
   lodIndex = Number(el.lodSelect.value);
+  showLodNote();
   if (shown) {
     const mesh = meshOf(shown, lodIndex);
     view.showMesh(mesh, false);
@@ -261,6 +324,26 @@ el.lodSelect.addEventListener('change', () => {
 
 // ---------------------------------------------------------------------------------------------
 // Opening fields
+
+const NORMALS_WORDS: Record<string, string> = { field: 'from the field', mesh: 'from the triangles' };
+const FORMAT_WORDS: Record<string, string> = {
+  glb: 'GLB · binary glTF 2.0',
+  gltf: 'glTF · one JSON file',
+  ply: 'PLY · with colors',
+  obj: 'OBJ · Wavefront',
+  stl: 'STL · shape only',
+};
+
+function showFormatOptions(): void {
+  const f = el.exportFormat.value;
+  el.gltfOptions.hidden = !(f === 'glb' || f === 'gltf');
+  el.exportColors.disabled = !info?.hasColor || f === 'stl';
+}
+el.exportFormat.addEventListener('change', showFormatOptions);
+el.exportMeshopt.addEventListener('change', () => {
+  if (el.exportMeshopt.checked) el.exportQuantize.checked = true; // meshopt implies quantization
+});
+el.normals.addEventListener('change', () => live.full());
 
 const KIND_WORDS: Record<FieldInfo['kind'], string> = {
   sdf: 'signed distance (SDF)',
@@ -280,7 +363,7 @@ async function openWith(request: Promise<Reply<FieldInfo | null>>): Promise<void
     endBusy();
   }
   if (!reply.ok) {
-    showNotice(`Couldn't open that field. ${sentence(reply.error)}${info ? ` ${info.name} is still open.` : ''}`, 'error');
+    showNotice(`Couldn't open that field. ${sentence(reply.error)}`, 'error', info ? `${info.name} is still open.` : '');
     return;
   }
   if (reply.value) applyField(reply.value);
@@ -331,6 +414,13 @@ function applyField(f: FieldInfo): void {
   el.depth.value = String(f.depth.start);
   showDepth();
   el.method.replaceChildren(...f.methods.map((m) => new Option(m.replace(/-/g, ' '), m)));
+  region = null;
+  showRegion(f.bounds);
+  el.lipschitz.value = '';
+  el.startDepth.value = '';
+  el.lipschitzRow.hidden = f.kind !== 'sdf';
+  el.startDepthRow.hidden = f.kind === 'sdf';
+  el.nonfinite.value = 'error';
 
   const anyShaping = f.shaping.budget || f.shaping.lods || f.shaping.minPart;
   el.budget.disabled = el.budgetNum.disabled = !f.shaping.budget;
@@ -342,8 +432,12 @@ function applyField(f: FieldInfo): void {
   showBudget();
   showMinPart();
 
+  el.normals.replaceChildren(...f.normalsMethods.map((m) => new Option(NORMALS_WORDS[m] ?? m, m)));
+  el.normalsRow.hidden = f.normalsMethods.length === 0;
+  el.exportFormat.replaceChildren(...f.exportFormats.map((m) => new Option(FORMAT_WORDS[m] ?? m, m)));
+  el.exportFormat.value = 'glb';
+  showFormatOptions();
   el.exportName.value = f.name.replace(/(\.recipe)?\.[A-Za-z0-9]+$/, '') || 'mesh';
-  el.exportColors.disabled = !f.hasColor;
   el.exportColors.checked = f.hasColor;
   el.exportResult.replaceChildren();
   el.verdict.className = 'verdict';
@@ -352,6 +446,28 @@ function applyField(f: FieldInfo): void {
   view.showBounds(f.bounds);
   live.preview();
   live.settle();
+}
+
+function showRegion(b: Bounds): void {
+  el.region.forEach((input, i) => {
+    input.value = String(Number(b[i].toPrecision(6)));
+    input.classList.remove('wrong');
+  });
+}
+
+/** Reads the region boxes: the bounds, or a sentence naming what is wrong. */
+function readRegion(): Bounds | string {
+  const v = el.region.map((input) => Number(input.value));
+  el.region.forEach((input, i) => input.classList.toggle('wrong', input.value.trim() === '' || !Number.isFinite(v[i])));
+  if (el.region.some((input, i) => input.value.trim() === '' || !Number.isFinite(v[i]))) return 'each side of the region needs a number';
+  for (let a = 0; a < 3; a++) {
+    if (!(v[a] < v[a + 3])) {
+      el.region[a].classList.add('wrong');
+      el.region[a + 3].classList.add('wrong');
+      return `the region's ${'xyz'[a]} "from" must be below its "to"`;
+    }
+  }
+  return v as Bounds;
 }
 
 function showDepth(): void {
@@ -365,18 +481,20 @@ function showBudget(): void {
 }
 function showMinPart(): void {
   const p = Number(el.minPart.value);
-  el.minPartOut.textContent = p > 0 ? `${p.toFixed(1)} % of the area` : 'keep all';
+  el.minPartOut.textContent = p > 0 ? `${p.toFixed(1)} % of the largest` : 'keep all';
 }
 
 // ---------------------------------------------------------------------------------------------
 // Controls
 
+/** The level the slider points at, to four significant figures: what the box shows is what gets baked. */
+const sliderLevel = () => String(Number(Number(el.level.value).toPrecision(4)));
 el.level.addEventListener('input', () => {
-  el.levelNum.value = el.level.value;
+  el.levelNum.value = sliderLevel();
   live.preview();
 });
 el.level.addEventListener('change', () => {
-  el.levelNum.value = el.level.value;
+  el.levelNum.value = sliderLevel();
   live.settle();
 });
 el.levelNum.addEventListener('change', () => {
@@ -388,6 +506,30 @@ el.levelNum.addEventListener('change', () => {
   el.level.value = String(v);
   live.full();
 });
+for (const input of el.region) {
+  input.addEventListener('change', () => {
+    if (!info) return;
+    const r = readRegion();
+    if (typeof r === 'string') {
+      showNotice(`Can't use that region: ${r}.`, 'error');
+      return;
+    }
+    hideNotice('error');
+    region = r.every((x, i) => x === info!.bounds[i]) ? null : r;
+    view.showBounds(region ?? info.bounds);
+    live.full();
+  });
+}
+el.regionReset.addEventListener('click', () => {
+  if (!info) return;
+  region = null;
+  showRegion(info.bounds);
+  view.showBounds(info.bounds);
+  live.full();
+});
+el.lipschitz.addEventListener('change', () => live.full());
+el.startDepth.addEventListener('change', () => live.full());
+el.nonfinite.addEventListener('change', () => live.full());
 el.depth.addEventListener('input', showDepth);
 el.depth.addEventListener('change', () => live.full());
 el.method.addEventListener('change', () => live.full());
@@ -453,7 +595,17 @@ async function exportMesh(): Promise<void> {
   beginBusy();
   let reply: Reply<ExportResult | null>;
   try {
-    reply = await api.exportMesh({ settings: settings(), format: 'glb', colors: el.exportColors.checked && info.hasColor, name: name.slice(0, 64), lod: lodIndex });
+    const format = (info.exportFormats as string[]).includes(el.exportFormat.value) ? (el.exportFormat.value as ExportFormat) : 'glb';
+    const gltf = format === 'glb' || format === 'gltf';
+    reply = await api.exportMesh({
+      settings: settings(),
+      format,
+      colors: el.exportColors.checked && info.hasColor && format !== 'stl',
+      quantize: gltf && el.exportQuantize.checked,
+      meshopt: gltf && el.exportMeshopt.checked,
+      name: name.slice(0, 64),
+      lod: lodIndex,
+    });
   } catch (e) {
     reply = { ok: false, error: e instanceof Error ? e.message : String(e) };
   } finally {
@@ -475,6 +627,11 @@ function showExport(r: ExportResult): void {
   saved.title = r.path;
   const verdict = document.createElement('div');
   const v = r.validator;
+  if (v === null) {
+    verdict.textContent = `${r.format.toUpperCase()} files have no validator; the Check step above describes the mesh.`;
+    el.exportResult.replaceChildren(saved, verdict);
+    return;
+  }
   const clean = v.errors === 0;
   verdict.className = clean ? 'ok' : 'fail';
   verdict.textContent = clean

@@ -218,7 +218,7 @@ export function createViewport(canvas: HTMLCanvasElement, container: HTMLElement
       dir.normalize();
       const fov = THREE.MathUtils.degToRad(camera.fov);
       const fit = Math.min(fov, 2 * Math.atan(Math.tan(fov / 2) * camera.aspect));
-      const distance = (s.radius / Math.sin(fit / 2)) * 1.08;
+      const distance = (s.radius / Math.sin(fit / 2)) * 1.12;
       controls.target.copy(s.center);
       camera.position.copy(s.center).addScaledVector(dir, distance);
       camera.near = distance / 100;

@@ -59,6 +59,10 @@ export const LIMITS = {
   maxLods: 8,
   /** Largest |level| accepted, field units: anything beyond is a typo, not a level. */
   maxAbsLevel: 1e9,
+  /** Largest |coordinate| of sampling bounds, metres. */
+  maxAbsCoordinate: 1e6,
+  /** Largest Lipschitz bound, metres per metre. */
+  maxLipschitz: 1e6,
 } as const;
 
 // ---------------------------------------------------------------------------------------------
@@ -88,16 +92,29 @@ export interface BakeSettings {
   budget: number;
   /** Lighter copies (LODs) to make; 0 = none. Passed to core only when it supports it. */
   lods: number;
-  /** Pieces smaller than this share of the whole mesh's area are dropped (0..1); 0 = keep all. Passed to core only when it supports it. */
+  /** Pieces whose area is below this share (0..1) of the largest piece's are dropped; 0 = keep all. Passed to core only when it supports it. */
   minPart: number;
+  /** Vertex normals from the field's gradient (`field`) or from the mesh (`mesh`), when core offers the choice. */
+  normals: 'field' | 'mesh';
+  /** Region to sample, metres (the CLI's --bounds); null = the field's own. */
+  bounds: Bounds | null;
+  /** Gradient bound for skipping empty space in an SDF (--lipschitz); null = the field's own promise or core's default. */
+  lipschitz: number | null;
+  /** First level refined for density/occupancy fields (--start-depth); null = core's default. */
+  startDepth: number | null;
+  /** What NaN/±Inf samples mean (--nonfinite): stop with an error, or count as outside. */
+  nonfinite: 'error' | 'outside';
 }
+
+/** The keys of {@link BakeSettings}, in order. */
+export const BAKE_SETTING_KEYS = ['level', 'depth', 'method', 'budget', 'lods', 'minPart', 'normals', 'bounds', 'lipschitz', 'startDepth', 'nonfinite'] as const;
 
 export interface BakeRequest extends BakeSettings {
   quality: BakeQuality;
 }
 
-/** Export formats the app writes. */
-export const EXPORT_FORMATS = ['glb'] as const;
+/** Export formats the app writes: core's (core/export/export-mesh.ts; a test pins the two lists together). */
+export const EXPORT_FORMATS = ['glb', 'gltf', 'ply', 'stl', 'obj'] as const;
 export type ExportFormat = (typeof EXPORT_FORMATS)[number];
 
 export interface ExportRequest {
@@ -106,9 +123,16 @@ export interface ExportRequest {
   format: ExportFormat;
   /** Write vertex colors (COLOR_0) when the field has them. */
   colors: boolean;
+  /** glTF/GLB: quantize attributes (KHR_mesh_quantization). */
+  quantize: boolean;
+  /** glTF/GLB: compress with EXT_meshopt_compression (implies quantize). */
+  meshopt: boolean;
   /** Name of the glTF node and mesh. */
   name: string;
-  /** Which level of detail to write: 0 = the full mesh. */
+  /**
+   * Which level of detail to write: 0 = the full mesh, with every lighter copy as further levels
+   * when the bake made any; k > 0 = lighter copy k alone.
+   */
   lod: number;
 }
 
@@ -143,6 +167,10 @@ export interface FieldInfo {
   methods: string[];
   /** Shaping options the core in this build understands. */
   shaping: { budget: boolean; lods: boolean; minPart: boolean };
+  /** Normal methods core offers (empty: core has no choice). */
+  normalsMethods: string[];
+  /** Formats the export step offers. */
+  exportFormats: ExportFormat[];
   /** Extra facts (opset, grid shape, recipe nodes …), already formatted. */
   details: Record<string, string>;
   /** Fields opened earlier in this session, newest first: name and path. */
@@ -188,6 +216,8 @@ export interface BakeResult {
   mesh: MeshPayload;
   /** Lighter copies, when core made them. */
   lods: MeshPayload[];
+  /** Each lighter copy's largest distance from the unreduced mesh, millimetres (same order as `lods`). */
+  lodErrorsMm: number[];
   /** Edges to highlight: 2 points (6 floats) per edge. `open`: used by one triangle; `nonManifold`: by three or more. */
   problemEdges: { open: Float32Array; nonManifold: Float32Array };
   verdict: Verdict;
@@ -207,7 +237,8 @@ export interface ExportResult {
   /** File size, bytes. */
   bytes: number;
   format: ExportFormat;
-  validator: ValidatorVerdict;
+  /** gltf-validator's verdict on glTF and GLB files; null for other formats. */
+  validator: ValidatorVerdict | null;
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -259,7 +290,7 @@ export function validateOpenPath(p: unknown): string | null {
 
 /** {@link BakeRequest}. */
 export function validateBakeRequest(p: unknown): string | null {
-  const k = keysProblem(p, ['quality', 'level', 'depth', 'method', 'budget', 'lods', 'minPart']);
+  const k = keysProblem(p, ['quality', ...BAKE_SETTING_KEYS]);
   if (k) return k;
   const r = p as Record<string, unknown>;
   if (r.quality !== 'preview' && r.quality !== 'full') return `quality must be 'preview' or 'full'`;
@@ -268,15 +299,17 @@ export function validateBakeRequest(p: unknown): string | null {
 
 /** {@link ExportRequest}. */
 export function validateExportRequest(p: unknown): string | null {
-  const k = keysProblem(p, ['settings', 'format', 'colors', 'name', 'lod']);
+  const k = keysProblem(p, ['settings', 'format', 'colors', 'quantize', 'meshopt', 'name', 'lod']);
   if (k) return k;
   const r = p as Record<string, unknown>;
-  const sk = keysProblem(r.settings, ['level', 'depth', 'method', 'budget', 'lods', 'minPart'], 'settings');
+  const sk = keysProblem(r.settings, BAKE_SETTING_KEYS, 'settings');
   if (sk) return sk;
   const s = settingsProblem(r.settings as Record<string, unknown>);
   if (s) return `settings: ${s}`;
   if (!(EXPORT_FORMATS as readonly unknown[]).includes(r.format)) return `format must be one of: ${EXPORT_FORMATS.join(', ')}`;
   if (typeof r.colors !== 'boolean') return 'colors must be true or false';
+  if (typeof r.quantize !== 'boolean') return 'quantize must be true or false';
+  if (typeof r.meshopt !== 'boolean') return 'meshopt must be true or false';
   const n = textProblem(r.name, 'name', LIMITS.maxNameLength);
   if (n) return n;
   if ((r.name as string).trim() === '') return 'name must not be empty';
@@ -296,6 +329,25 @@ function settingsProblem(r: Record<string, unknown>): string | null {
   const l = integerProblem(r.lods, 'lods', 0, LIMITS.maxLods);
   if (l) return l;
   if (typeof r.minPart !== 'number' || !Number.isFinite(r.minPart) || r.minPart < 0 || r.minPart > 1) return 'minPart must be a number from 0 to 1';
+  if (r.normals !== 'field' && r.normals !== 'mesh') return "normals must be 'field' or 'mesh'";
+  if (r.bounds !== null) {
+    const b = r.bounds;
+    if (!Array.isArray(b) || b.length !== 6) return 'bounds must be null or six numbers xmin,ymin,zmin,xmax,ymax,zmax';
+    for (let i = 0; i < 6; i++) {
+      if (typeof b[i] !== 'number' || !Number.isFinite(b[i]) || Math.abs(b[i]) > LIMITS.maxAbsCoordinate) {
+        return `bounds value ${i + 1} must be a finite number within ±${LIMITS.maxAbsCoordinate} m`;
+      }
+    }
+    for (let a = 0; a < 3; a++) if (!(b[a] < b[a + 3])) return `bounds ${'xyz'[a]}min must be below ${'xyz'[a]}max`;
+  }
+  if (r.lipschitz !== null && (typeof r.lipschitz !== 'number' || !Number.isFinite(r.lipschitz) || r.lipschitz <= 0 || r.lipschitz > LIMITS.maxLipschitz)) {
+    return `lipschitz must be null or a number above 0 and at most ${LIMITS.maxLipschitz}`;
+  }
+  if (r.startDepth !== null) {
+    const sd = integerProblem(r.startDepth, 'startDepth', 0, LIMITS.maxDepth);
+    if (sd) return sd;
+  }
+  if (r.nonfinite !== 'error' && r.nonfinite !== 'outside') return "nonfinite must be 'error' or 'outside'";
   return null;
 }
 
