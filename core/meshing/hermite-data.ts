@@ -3,7 +3,7 @@
  * surface crosses it and the field's unit normal there (Ju, Losasso, Schaefer, Warren 2002, "Dual
  * Contouring of Hermite Data"). This is what dual contouring places its vertices from.
  *
- * - Crossing: a few steps of the Illinois method (a safeguarded regula falsi: Dowell and Jarratt 1971,
+ * - Crossing: up to `rootSteps` steps of the Illinois method (a safeguarded regula falsi: Dowell and Jarratt 1971,
  *   "A modified regula falsi method for computing the root of an equation") on the field itself,
  *   starting from the linear-interpolation point, which is the first regula falsi step. The bracket
  *   always holds a sign change, so the root never leaves the edge. All edges still open take one step
@@ -125,7 +125,7 @@ export async function findHermiteData(cells: SurfaceCells, field: Field, options
   for (let c = 0; c < cellCount; c++) {
     const i = coords[3 * c], j = coords[3 * c + 1], k = coords[3 * c + 2];
     for (let e = 0; e < 12; e++) {
-      const [c0, c1] = EDGE_CORNERS[e];
+      const c0 = EDGE_CORNERS[e][0], c1 = EDGE_CORNERS[e][1];
       const s0 = corners[8 * c + c0], s1 = corners[8 * c + c1];
       if (s0 < 0 === s1 < 0) continue;
       const a = EDGE_AXIS[e];

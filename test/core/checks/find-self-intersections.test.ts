@@ -1,0 +1,97 @@
+/**
+ * Tests for findSelfIntersections (core/checks/find-self-intersections.ts). Expected answers come
+ * from hand geometry (sketched below) and from the fact that a closed convex surface has no
+ * self-intersections while two overlapping closed surfaces must cross along a curve.
+ */
+import { beforeAll, describe, expect, it } from 'vitest';
+import { findSelfIntersections } from '../../../core/checks/find-self-intersections.js';
+import { sampleOctree } from '../../../core/sampling/sample-octree.js';
+import { marchingCubes } from '../../../core/meshing/marching-cubes.js';
+import { dualContour } from '../../../core/meshing/dual-contouring.js';
+import type { MeshData } from '../../../core/types.js';
+import { fnField, sphereSdf } from '../../helpers/analytic-fields.js';
+
+const mesh = (pos: number[], idx: number[]): MeshData => ({ positions: Float32Array.from(pos), indices: Uint32Array.from(idx) });
+
+/** Two meshes side by side in one buffer (indices of the second shifted). */
+function combine(a: MeshData, b: MeshData): MeshData {
+  const va = a.positions.length / 3;
+  const positions = new Float32Array(a.positions.length + b.positions.length);
+  positions.set(a.positions);
+  positions.set(b.positions, a.positions.length);
+  const indices = new Uint32Array(a.indices.length + b.indices.length);
+  indices.set(a.indices);
+  for (let q = 0; q < b.indices.length; q++) indices[a.indices.length + q] = b.indices[q] + va;
+  return { positions, indices };
+}
+
+describe('findSelfIntersections', () => {
+  it('two triangles crossing like links of a chain give one pair', () => {
+    //  T0 lies in z = 0 around the origin; T1 stands in x = 0 and pierces T0's interior:
+    //      z
+    //      |  T1 (x = 0 plane, from z = -1 to z = 1)
+    //  ----+----  T0 (z = 0 plane)
+    // Their planes meet on the y axis, where both triangles cover y in (-0.5, 0.5): they cross.
+    const m = mesh([-1, -1, 0, 1, -1, 0, 0, 1, 0, 0, -0.5, -1, 0, 0.5, -1, 0, 0, 1], [0, 1, 2, 3, 4, 5]);
+    expect(findSelfIntersections(m)).toEqual([0, 1]);
+  });
+
+  it('the same pair moved apart, or only touching at a corner, gives none', () => {
+    const apart = mesh([-1, -1, 0, 1, -1, 0, 0, 1, 0, 5, -0.5, -1, 5, 0.5, -1, 5, 0, 1], [0, 1, 2, 3, 4, 5]);
+    expect(findSelfIntersections(apart)).toEqual([]);
+    // T1's apex touches T0's plane exactly at T0's vertex position (a different index): contact, not crossing.
+    const touching = mesh([-1, -1, 0, 1, -1, 0, 0, 1, 0, 0, 1, 0, 0.5, 2, 1, -0.5, 2, 1], [0, 1, 2, 3, 4, 5]);
+    expect(findSelfIntersections(touching)).toEqual([]);
+  });
+
+  it('neighbours that share an edge or a vertex in the regular way are not reported', () => {
+    // A square split in two (shared edge) and a third triangle sharing one corner, all flat.
+    const m = mesh([0, 0, 0, 1, 0, 0, 1, 1, 0, 0, 1, 0, 2, 1, 0, 2, 2, 0], [0, 1, 2, 0, 2, 3, 2, 4, 5]);
+    expect(findSelfIntersections(m)).toEqual([]);
+  });
+
+  it('a triangle folded flat onto its neighbour, a duplicate, and a fold through a shared vertex are reported', () => {
+    // Vertex 3 lies on the same side of edge 0-1 as vertex 2, in the same plane: the two overlap.
+    const folded = mesh([0, 0, 0, 1, 0, 0, 0.5, 1, 0, 0.5, 0.5, 0], [0, 1, 2, 1, 0, 3]);
+    expect(findSelfIntersections(folded)).toEqual([0, 1]);
+    const duplicate = mesh([0, 0, 0, 1, 0, 0, 0, 1, 0], [0, 1, 2, 0, 1, 2]);
+    expect(findSelfIntersections(duplicate)).toEqual([0, 1]);
+    // Sharing vertex 0 at the origin, T1's far edge passes through T0's interior.
+    const through = mesh([0, 0, 0, 2, -1, 0, 2, 1, 0, 1, 0, -1, 1, 0, 1], [0, 1, 2, 0, 3, 4]);
+    expect(findSelfIntersections(through)).toEqual([0, 1]);
+  });
+
+  it('rejects indices out of range', () => {
+    expect(() => findSelfIntersections(mesh([0, 0, 0], [0, 1, 2]))).toThrow(/findSelfIntersections: index 1/);
+  });
+
+  describe('closed meshes', () => {
+    let sphere: MeshData;
+    let dcSphere: MeshData;
+    beforeAll(async () => {
+      const f = fnField(sphereSdf(0.3), [-0.5, -0.5, -0.5, 0.5, 0.5, 0.5]);
+      const cells = await sampleOctree(f, { depth: 6 });
+      sphere = marchingCubes(cells);
+      dcSphere = (await dualContour(cells, f)).mesh;
+    });
+
+    it('a closed sphere mesh (marching cubes and dual contouring) has none', () => {
+      // A closed convex surface cannot cross itself (textbook).
+      expect(findSelfIntersections(sphere)).toEqual([]);
+      expect(findSelfIntersections(dcSphere)).toEqual([]);
+    });
+
+    it('two overlapping spheres combined into one mesh cross along a curve', () => {
+      // The second copy is moved by 0.3 m: the spheres (r = 0.3 m) overlap, so their surfaces meet
+      // in a circle; every triangle pair along it crosses.
+      const moved = { positions: sphere.positions.map((v, q) => (q % 3 === 0 ? v + 0.3 : v)), indices: sphere.indices };
+      const pairs = findSelfIntersections(combine(sphere, moved));
+      expect(pairs.length / 2).toBeGreaterThan(50);
+      const T = sphere.indices.length / 3;
+      for (let q = 0; q < pairs.length; q += 2) {
+        expect(pairs[q]).toBeLessThan(T); // one from each sphere, since each alone is clean
+        expect(pairs[q + 1]).toBeGreaterThanOrEqual(T);
+      }
+    });
+  });
+});
