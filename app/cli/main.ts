@@ -3,10 +3,12 @@ import { CancelledError, FieldkilnError } from '../../core/types.js';
 import { FIELDKILN_VERSION } from '../../core/version.js';
 import { BAKE_HELP, runBake } from './commands/bake.js';
 import { INSPECT_HELP, runInspect } from './commands/inspect.js';
+import { CHECK_HELP, runCheck } from './commands/check.js';
 
 const COMMANDS: Record<string, { run: (argv: string[]) => Promise<number>; help: string; summary: string }> = {
   bake: { run: runBake, help: BAKE_HELP, summary: 'turn a field into a checked GLB mesh' },
   inspect: { run: runInspect, help: INSPECT_HELP, summary: "print a field's kind, bounds, outputs and value range" },
+  check: { run: runCheck, help: CHECK_HELP, summary: 'run the topology checks on a mesh file (.glb, .gltf, .ply, .stl, .obj)' },
 };
 
 function usage(): string {

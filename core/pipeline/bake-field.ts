@@ -1,5 +1,7 @@
 /**
- * The whole job for one field: sample → extract → normals → color → check → GLB, with a report.
+ * The whole job for one field: sample → extract → cleanup → normals from the field → decimation to
+ * the budget → LODs → color baking (after decimation, so every final vertex gets the field's color
+ * at its own position) → checks → export (GLB, glTF, PLY, STL or OBJ), with a report.
  * Front ends (CLI, desktop app) call this; it touches no files. `timings` use `performance.now()`,
  * which Node, workers and browsers all have.
  */
@@ -8,13 +10,23 @@ import type { Bounds, Logger, MeshData, ProgressFn } from '../types.js';
 import { FieldkilnError, throwIfAborted } from '../types.js';
 import { sampleOctree, SAMPLE_OCTREE_DEFAULTS, type SurfaceCells } from '../sampling/sample-octree.js';
 import { marchingCubes } from '../meshing/marching-cubes.js';
+import { dualContour } from '../meshing/dual-contouring.js';
+import { findSelfIntersections } from '../checks/find-self-intersections.js';
 import { areaWeightedNormals } from '../normals/area-weighted-normals.js';
 import { analyzeMesh, type MeshReport } from '../checks/analyze-mesh.js';
-import { writeGlb } from '../export/write-glb.js';
+import { runChecks } from '../checks/run-checks.js';
+import type { CheckResult } from '../checks/check-result.js';
+import { countSmallParts, removeSmallParts, SMALL_PART_WARNING_FRACTION } from '../cleanup/remove-small-parts.js';
+import { removeDegenerateTriangles, type DegenerateTrianglesRemoved } from '../cleanup/remove-degenerate-triangles.js';
+import { fieldGradientNormals, FIELD_GRADIENT_NORMALS_DEFAULTS } from '../normals/field-gradient-normals.js';
+import { decimateMesh, type DecimateResult } from '../decimate/decimate-mesh.js';
+import { buildLods } from '../decimate/build-lods.js';
+import { bakeVertexColors } from '../color/bake-vertex-colors.js';
+import { exportMesh, isGltfFormat, EXPORT_FORMATS, type ExportFormat } from '../export/export-mesh.js';
 import { FIELDKILN_VERSION } from '../version.js';
 
-export type MeshingMethod = 'marching-cubes';
-export const MESHING_METHODS: readonly MeshingMethod[] = ['marching-cubes'];
+export type MeshingMethod = 'marching-cubes' | 'dual-contouring';
+export const MESHING_METHODS: readonly MeshingMethod[] = ['marching-cubes', 'dual-contouring'];
 
 /** Options for {@link bakeField}. */
 export interface BakeOptions {
@@ -36,13 +48,39 @@ export interface BakeOptions {
   provenance?: Record<string, unknown>;
   /** Skip writing the GLB (preview). Default: false. */
   skipExport?: boolean;
+  /** Drop connected parts whose area is below this fraction (0..1) of the largest part's. Default: 0 (keep all, warn about small ones). */
+  minPart?: number;
+  /** Decimate to at most this many triangles (meshoptimizer, checked). Default: 0 (no budget). */
+  budget?: number;
+  /** Further levels of detail, each about half the triangles of the one before. Default: 0. */
+  lods?: number;
+  /** Vertex normals from the field's gradient, or area-weighted from the mesh. Default: 'field'. */
+  normals?: NormalsMethod;
+  /** Output format. Default: 'glb'. */
+  format?: ExportFormat;
+  /** glTF: quantize attributes (KHR_mesh_quantization). Default: false. */
+  quantize?: boolean;
+  /** glTF: EXT_meshopt_compression (implies quantize). Default: false. */
+  meshopt?: boolean;
   signal?: AbortSignal;
   onProgress?: ProgressFn;
   logger?: Logger;
 }
 
+export type NormalsMethod = 'field' | 'mesh';
+export const NORMALS_METHODS: readonly NormalsMethod[] = ['field', 'mesh'];
+
 export const BAKE_DEFAULTS = {
   depth: SAMPLE_OCTREE_DEFAULTS.depth,
+  /** 0: keep every part (small ones are mentioned in a warning). */
+  minPart: 0,
+  /** 0: no budget. */
+  budget: 0,
+  lods: 0,
+  normals: 'field' as NormalsMethod,
+  format: 'glb' as ExportFormat,
+  quantize: false,
+  meshopt: false,
   method: 'marching-cubes' as MeshingMethod,
 };
 
@@ -61,8 +99,31 @@ export interface BakeReport {
     closedAtBounds: number;
     nonFinite: number;
     valueRange: [number, number];
+    /** Evaluations beyond the sampler's: dual contouring's root finding and gradients. */
+    extraEvaluations: number;
   };
-  mesh: Omit<MeshReport, 'where' | 'perComponent'> & { method: MeshingMethod; perComponent: MeshReport['perComponent']; where: MeshReport['where'] };
+  mesh: Omit<MeshReport, 'where' | 'perComponent'> & {
+    method: MeshingMethod;
+    /** Pairs of triangles of the final mesh that intersect (not counting shared vertices and edges). */
+    selfIntersections: number;
+    perComponent: MeshReport['perComponent'];
+    where: MeshReport['where'];
+  };
+  /** What cleanup removed (before decimation). */
+  cleanup: {
+    minPart: number;
+    smallParts: { parts: number; triangles: number; area: number };
+    degenerateTriangles: DegenerateTrianglesRemoved;
+  };
+  normals: { method: NormalsMethod; fallbackVertices: number; step: number | null };
+  /** `targetTriangles` is null without a budget; `maxError` is the measured distance from the undecimated mesh, metres. */
+  decimation: { targetTriangles: number | null; inputTriangles: number; triangles: number; maxError: number; attempts: number };
+  /** Further levels; `maxError` is each level's distance from the undecimated mesh, metres. */
+  lods: { level: number; targetTriangles: number; triangles: number; vertices: number; maxError: number; watertight: boolean; genus: number | null }[];
+  /** Vertex colors baked after decimation; `averagedVertices` got a neighbourhood average. */
+  colors: { baked: boolean; averagedVertices: number };
+  /** Every named check (core/checks) on the base level. */
+  checks: Pick<CheckResult, 'name' | 'ok' | 'count' | 'unit' | 'where'>[];
   timings: Record<string, number>;
   output?: { path: string; bytes: number; format: string };
   warnings: string[];
@@ -71,8 +132,13 @@ export interface BakeReport {
 export interface BakeResult {
   mesh: MeshData;
   report: BakeReport;
-  /** GLB bytes, unless `skipExport`. */
+  /** GLB bytes, unless `skipExport` or another format. */
   glb?: Uint8Array;
+  /** The exported file's bytes in `format`, unless `skipExport`. */
+  bytes?: Uint8Array;
+  format: ExportFormat;
+  /** Further levels of detail (normals, and colors when the field has them). */
+  lods: MeshData[];
   cells: SurfaceCells;
 }
 
@@ -94,6 +160,7 @@ export async function bakeField(field: Field, options: BakeOptions = {}): Promis
   const method = options.method ?? BAKE_DEFAULTS.method;
   if (!MESHING_METHODS.includes(method)) throw new FieldkilnError(`unknown method '${method}'; use one of: ${MESHING_METHODS.join(', ')}`);
   const depth = options.depth ?? BAKE_DEFAULTS.depth;
+  const shaping = shapingOptions(options);
   const bounds = options.bounds ?? field.bounds;
   const level = options.level ?? field.defaultLevel;
   if (level === undefined) throw new FieldkilnError(`this ${field.kind} field declares no iso-level; pass --level`);
@@ -123,26 +190,120 @@ export async function bakeField(field: Field, options: BakeOptions = {}): Promis
   throwIfAborted(options.signal);
   progress('extract', 0);
   t = performance.now();
-  const mesh = marchingCubes(cells);
+  let extraEvaluations = 0;
+  let mesh: MeshData;
+  if (method === 'dual-contouring') {
+    const dc = await dualContour(cells, field, { signal: options.signal });
+    mesh = dc.mesh;
+    extraEvaluations = dc.extraEvaluations;
+  } else mesh = marchingCubes(cells);
   timings.extract = secs(t);
 
+  // Cleanup: floaters (on request), then degenerate triangles, which are removed without opening the mesh.
+  progress('cleanup', 0);
   t = performance.now();
-  mesh.normals = areaWeightedNormals(mesh.positions, mesh.indices);
+  let full: MeshData = mesh;
+  const cleanup: BakeReport['cleanup'] = {
+    minPart: shaping.minPart,
+    smallParts: { parts: 0, triangles: 0, area: 0 },
+    degenerateTriangles: { found: 0, collapsed: 0, flipped: 0, dropped: 0, remaining: 0 },
+  };
+  if (shaping.minPart > 0) {
+    const r = removeSmallParts(full, shaping.minPart);
+    full = r.mesh;
+    cleanup.smallParts = { parts: r.removed.parts, triangles: r.removed.triangles, area: r.removed.area };
+  } else {
+    const small = countSmallParts(full, SMALL_PART_WARNING_FRACTION);
+    if (small.parts > 0) {
+      warn(
+        `${small.parts} small part(s) under ${SMALL_PART_WARNING_FRACTION * 100}% of the largest part's area (${fmt(small.area)} m² in all) were kept; ` +
+          `--min-part ${SMALL_PART_WARNING_FRACTION} removes them`,
+      );
+    }
+  }
+  const degenerate = removeDegenerateTriangles(full);
+  full = degenerate.mesh;
+  cleanup.degenerateTriangles = degenerate.removed;
+  if (degenerate.removed.remaining > 0) {
+    warn(`${degenerate.removed.remaining} degenerate triangle(s) could not be removed without opening the mesh and were kept`);
+  }
+  timings.cleanup = secs(t);
+
+  // Normals, at every vertex of the full mesh: decimation keeps a subset of these vertices, so the
+  // final vertices carry the field's normal at their own position.
+  throwIfAborted(options.signal);
+  progress('normals', 0);
+  t = performance.now();
+  const cellSize = cells.lattice.cellSize;
+  const normalsReport: BakeReport['normals'] = { method: shaping.normals, fallbackVertices: 0, step: null };
+  if (shaping.normals === 'field') {
+    const step = FIELD_GRADIENT_NORMALS_DEFAULTS.stepCells * cellSize;
+    const r = await fieldGradientNormals(field, full.positions, full.indices, { step, signal: options.signal });
+    full.normals = r.normals;
+    normalsReport.fallbackVertices = r.fallbackVertices;
+    normalsReport.step = step;
+    if (r.fallbackVertices > 0.01 * (full.positions.length / 3)) {
+      warn(`${r.fallbackVertices} vertices took the mesh normal: the field's gradient there was zero, not finite, or pointed into the mesh`);
+    }
+  } else {
+    full.normals = areaWeightedNormals(full.positions, full.indices);
+  }
   timings.normals = secs(t);
 
-  if (field.hasColor && field.evaluateColor) {
+  // Decimation to the budget and LODs; the field's colors guide the simplifier when it has them.
+  const colored = field.hasColor && !!field.evaluateColor;
+  const inputTriangles = full.indices.length / 3;
+  let base: MeshData = full;
+  let lodResults: DecimateResult[] = [];
+  const decimation: BakeReport['decimation'] = { targetTriangles: null, inputTriangles, triangles: inputTriangles, maxError: 0, attempts: 0 };
+  if (shaping.budget > 0 || shaping.lods > 0) {
     throwIfAborted(options.signal);
-    progress('color', 0);
+    progress('decimate', 0);
     t = performance.now();
-    const rgb = await field.evaluateColor(mesh.positions, options.signal);
-    for (let i = 0; i < rgb.length; i++) rgb[i] = Number.isFinite(rgb[i]) ? Math.min(1, Math.max(0, rgb[i])) : 0;
-    mesh.colors = rgb;
-    timings.color = secs(t);
+    if (colored) full.colors = clamp01(await field.evaluateColor!(full.positions, options.signal));
+    const inputReport = analyzeMesh(full);
+    if (shaping.budget > 0) {
+      const d = await decimateMesh(full, { targetTriangles: shaping.budget, inputReport });
+      base = d.mesh;
+      Object.assign(decimation, { targetTriangles: shaping.budget, triangles: d.triangles, maxError: d.maxError, attempts: d.attempts.length });
+      d.warnings.forEach(warn);
+    }
+    if (shaping.lods > 0) {
+      progress('decimate', 0.5);
+      lodResults = await buildLods(full, base.indices.length / 3, shaping.lods, { inputReport });
+      lodResults.forEach((l) => l.warnings.forEach(warn));
+      if (lodResults.length === 0) warn(`no LODs were made: the base level is too small to halve`);
+    }
+    timings.decimate = secs(t);
+  }
+  const lodMeshes = lodResults.map((l) => ({ ...l.mesh }));
+
+  // Colors, baked onto the final vertices of every level.
+  let averagedVertices = 0;
+  if (colored) {
+    throwIfAborted(options.signal);
+    progress('bake', 0);
+    t = performance.now();
+    base = { ...base };
+    for (const m of [base, ...lodMeshes]) {
+      const r = await bakeVertexColors(field, m, { cellSize, signal: options.signal });
+      m.colors = r.colors;
+      if (m === base) averagedVertices = r.averagedVertices;
+    }
+    timings.bake = secs(t);
+    timings.color = timings.bake;
   }
 
   progress('check', 0);
   t = performance.now();
-  const check = analyzeMesh(mesh);
+  const check = analyzeMesh(base);
+  const selfIntersections = findSelfIntersections(base).length / 2;
+  if (selfIntersections > 0) warn(`the mesh intersects itself in ${selfIntersections} pairs of triangles`);
+  const checks = runChecks(base).map(({ name, ok, count, unit, where }) => ({ name, ok, count, unit, where }));
+  const lodReport: BakeReport['lods'] = lodResults.map((l, i) => {
+    const r = analyzeMesh(l.mesh);
+    return { level: i + 1, targetTriangles: l.targetTriangles, triangles: r.triangles, vertices: r.vertices, maxError: l.maxError, watertight: r.watertight, genus: r.genus };
+  });
   timings.check = secs(t);
   if (!check.watertight) {
     warn(
@@ -150,18 +311,40 @@ export async function bakeField(field: Field, options: BakeOptions = {}): Promis
         `${check.nonManifoldVertices} non-manifold vertices, ${check.inconsistentEdges} inconsistently wound edges`,
     );
   }
+  lodReport.forEach((l) => {
+    if (!l.watertight) warn(`LOD ${l.level} is not watertight`);
+  });
 
   let glb: Uint8Array | undefined;
+  let bytes: Uint8Array | undefined;
   if (!options.skipExport) {
     throwIfAborted(options.signal);
     progress('export', 0);
     t = performance.now();
-    glb = await writeGlb(mesh, {
+    const gltf = isGltfFormat(shaping.format);
+    if (!gltf && lodMeshes.length > 0) warn(`LODs are written only to glTF and GLB files; the ${shaping.format.toUpperCase()} file holds the base level`);
+    if (!gltf && (shaping.quantize || shaping.meshopt)) warn(`--quantize and --meshopt apply to glTF and GLB only; the ${shaping.format.toUpperCase()} file is written without them`);
+    bytes = await exportMesh(shaping.format, base, {
+      lods: gltf ? lodMeshes : undefined,
+      quantize: shaping.quantize,
+      meshopt: shaping.meshopt,
       extras: {
         source: { kind: field.kind, name: field.description.name, ...(options.provenance ?? {}) },
-        options: { depth, level, bounds, method },
+        options: {
+          depth,
+          level,
+          bounds,
+          method,
+          minPart: shaping.minPart,
+          budget: shaping.budget,
+          lods: shaping.lods,
+          normals: shaping.normals,
+          quantize: shaping.quantize,
+          meshopt: shaping.meshopt,
+        },
       },
     });
+    if (shaping.format === 'glb') glb = bytes;
     timings.export = secs(t);
   }
   timings.total = secs(t0);
@@ -190,12 +373,39 @@ export async function bakeField(field: Field, options: BakeOptions = {}): Promis
       closedAtBounds: cells.closedAtBounds,
       nonFinite: cells.nonFinite,
       valueRange: [vmin, vmax],
+      extraEvaluations,
     },
-    mesh: { method, ...meshFigures, perComponent, where },
+    mesh: { method, ...meshFigures, selfIntersections, perComponent, where },
+    cleanup,
+    normals: normalsReport,
+    decimation,
+    lods: lodReport,
+    colors: { baked: colored, averagedVertices },
+    checks,
     timings,
     warnings,
   };
-  return { mesh, report, glb, cells };
+  return { mesh: base, report, glb, bytes, format: shaping.format, lods: lodMeshes, cells };
+}
+
+/** The shaping options with defaults, checked (misuse throws; the CLI checks user input first). */
+function shapingOptions(o: BakeOptions) {
+  const minPart = o.minPart ?? BAKE_DEFAULTS.minPart;
+  const budget = o.budget ?? BAKE_DEFAULTS.budget;
+  const lods = o.lods ?? BAKE_DEFAULTS.lods;
+  const normals = o.normals ?? BAKE_DEFAULTS.normals;
+  const format = o.format ?? BAKE_DEFAULTS.format;
+  if (!(minPart >= 0 && minPart <= 1)) throw new FieldkilnError(`minPart must be a fraction from 0 to 1 (got ${minPart})`);
+  if (!Number.isInteger(budget) || budget < 0 || (budget > 0 && budget < 4)) throw new FieldkilnError(`budget must be 0 (none) or a whole number of triangles ≥ 4 (got ${budget})`);
+  if (!Number.isInteger(lods) || lods < 0 || lods > 16) throw new FieldkilnError(`lods must be a whole number from 0 to 16 (got ${lods})`);
+  if (!NORMALS_METHODS.includes(normals)) throw new FieldkilnError(`unknown normals method '${normals}'; use one of: ${NORMALS_METHODS.join(', ')}`);
+  if (!EXPORT_FORMATS.includes(format)) throw new FieldkilnError(`unknown output format '${format}'; use one of: ${EXPORT_FORMATS.join(', ')}`);
+  return { minPart, budget, lods, normals, format, quantize: o.quantize ?? BAKE_DEFAULTS.quantize, meshopt: o.meshopt ?? BAKE_DEFAULTS.meshopt };
+}
+
+function clamp01(a: Float32Array): Float32Array {
+  for (let i = 0; i < a.length; i++) a[i] = Number.isFinite(a[i]) ? Math.min(1, Math.max(0, a[i])) : 0;
+  return a;
 }
 
 function secs(since: number): number {

@@ -17,7 +17,7 @@ export interface FixtureEntry {
   network_surface?: { area_m2: number; volume_m3: number; euler_characteristic: number; components: number };
   grid_marching_cubes_reference?: { area_m2: number; volume_m3: number; euler_characteristic: number };
   fit?: { zero_level_set?: { max_abs: number; mean_abs: number } };
-  color?: { spec: Record<string, unknown> };
+  color?: { spec: Record<string, unknown>; formula?: string };
   [k: string]: unknown;
 }
 

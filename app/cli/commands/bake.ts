@@ -1,9 +1,11 @@
-/** `fieldkiln bake <field> --out <file.glb> …`: the whole job for one field. */
+/** `fieldkiln bake <field> --out <file.glb|.gltf|.ply|.stl|.obj> …`: the whole job for one field. */
 import { createHash } from 'node:crypto';
 import { readFileSync, statSync } from 'node:fs';
 import { basename, extname, resolve } from 'node:path';
 import { parseArgs } from 'node:util';
-import { bakeField, BAKE_DEFAULTS, MESHING_METHODS } from '../../../core/pipeline/bake-field.js';
+import { bakeField, BAKE_DEFAULTS, MESHING_METHODS, NORMALS_METHODS } from '../../../core/pipeline/bake-field.js';
+import { EXPORT_FORMATS, formatFromExtension } from '../../../core/export/export-mesh.js';
+import { SMALL_PART_WARNING_FRACTION } from '../../../core/cleanup/remove-small-parts.js';
 import { SAMPLE_OCTREE_DEFAULTS } from '../../../core/sampling/sample-octree.js';
 import { openField } from '../../fields/open-field.js';
 import { checkWritable, writeFileAtomic } from '../../node/atomic-write.js';
@@ -12,9 +14,11 @@ import { makeProgress } from '../progress.js';
 
 export const BAKE_HELP = `fieldkiln bake <field> --out <file.glb> [options]
 
-Turns a field (.onnx neural field, .npy grid with .json sidecar, .json recipe) into a closed mesh in a GLB file.
+Turns a field (.onnx neural field, .npy grid with .json sidecar, .json recipe) into a closed mesh in a GLB file
+(or glTF, PLY, STL, OBJ).
 
-  --out <file.glb>        where to write the mesh (required)
+  --out <file>            where to write the mesh (required); .glb, .gltf, .ply, .stl or .obj picks the format
+  --format <name>         ${EXPORT_FORMATS.join(' | ')}: the output format when --out's extension does not say (default ${BAKE_DEFAULTS.format})
   --level <v>             iso-level in the field's units (default: the field's own; 0 for sdf/occupancy)
   --depth <d>             finest octree level: 2^d cells along the longest side (default ${BAKE_DEFAULTS.depth}, ${SAMPLE_OCTREE_DEFAULTS.minDepth}..${SAMPLE_OCTREE_DEFAULTS.maxDepth})
   --bounds <x0,y0,z0,x1,y1,z1>   region to mesh, metres (default: the field's bounds)
@@ -23,9 +27,19 @@ Turns a field (.onnx neural field, .npy grid with .json sidecar, .json recipe) i
   --start-depth <n>       first level refined for density/occupancy fields (default ${SAMPLE_OCTREE_DEFAULTS.startDepth})
   --method <name>         ${MESHING_METHODS.join(' | ')} (default ${BAKE_DEFAULTS.method})
   --nonfinite <mode>      error | outside: what NaN/±Inf samples mean (default error)
+  --min-part <fraction>   drop parts whose area is below this fraction of the largest part's (default: keep all,
+                          and warn about parts under ${SMALL_PART_WARNING_FRACTION})
+  --budget <triangles>    decimate to at most this many triangles, keeping the mesh closed and manifold (default: none)
+  --lods <n>              n further levels of detail, each about half the triangles of the one before (default ${BAKE_DEFAULTS.lods});
+                          written to glTF/GLB only, as nodes <name>_LOD1.. in scenes of their own
+  --normals <field|mesh>  vertex normals from the field's gradient or area-weighted from the mesh (default ${BAKE_DEFAULTS.normals})
+  --quantize              glTF/GLB: store attributes as integers (KHR_mesh_quantization; smaller files)
+  --meshopt               glTF/GLB: compress with EXT_meshopt_compression (implies --quantize; smallest files)
   --report <file.json>    also write the report as JSON
   --overwrite             replace existing output files
   --quiet                 no progress on stderr
+
+Vertex colors are linear RGB (glTF COLOR_0); PLY and OBJ get them sRGB-encoded, as their readers expect.
 `;
 
 export async function runBake(argv: string[]): Promise<number> {
@@ -43,6 +57,13 @@ export async function runBake(argv: string[]): Promise<number> {
       'start-depth': { type: 'string' },
       method: { type: 'string' },
       nonfinite: { type: 'string' },
+      'min-part': { type: 'string' },
+      budget: { type: 'string' },
+      lods: { type: 'string' },
+      normals: { type: 'string' },
+      format: { type: 'string' },
+      quantize: { type: 'boolean', default: false },
+      meshopt: { type: 'boolean', default: false },
       report: { type: 'string' },
       overwrite: { type: 'boolean', default: false },
       quiet: { type: 'boolean', default: false },
@@ -56,7 +77,7 @@ export async function runBake(argv: string[]): Promise<number> {
   if (positionals.length !== 1) throw new UsageError(`bake wants exactly one field file (got ${positionals.length}); see 'fieldkiln bake --help'`);
   const input = positionals[0];
   if (!values.out) throw new UsageError(`bake needs --out <file.glb>`);
-  if (extname(values.out).toLowerCase() !== '.glb') throw new UsageError(`--out must end in .glb (got '${values.out}')`);
+  const format = outputFormat(values.out, values.format);
   const depth = parseIntegerOption('depth', values.depth, SAMPLE_OCTREE_DEFAULTS.minDepth, SAMPLE_OCTREE_DEFAULTS.maxDepth);
   const level = parseNumberOption('level', values.level);
   const bounds = parseBoundsOption(values.bounds);
@@ -66,6 +87,11 @@ export async function runBake(argv: string[]): Promise<number> {
   const startDepth = parseIntegerOption('start-depth', values['start-depth'], 0, SAMPLE_OCTREE_DEFAULTS.maxDepth);
   const method = parseChoice('method', values.method, MESHING_METHODS);
   const nonfinite = parseChoice('nonfinite', values.nonfinite, ['error', 'outside'] as const);
+  const minPart = parseNumberOption('min-part', values['min-part']);
+  if (minPart !== undefined && !(minPart >= 0 && minPart <= 1)) throw new UsageError(`--min-part wants a fraction from 0 to 1 (got '${values['min-part']}')`);
+  const budget = parseIntegerOption('budget', values.budget, 4, 2 ** 31);
+  const lods = parseIntegerOption('lods', values.lods, 0, 16);
+  const normals = parseChoice('normals', values.normals, NORMALS_METHODS);
   const overwrite = values.overwrite ?? false;
   const outPath = resolve(values.out);
   const reportPath = values.report ? resolve(values.report) : undefined;
@@ -90,15 +116,22 @@ export async function runBake(argv: string[]): Promise<number> {
       startDepth,
       nonfinite,
       method,
+      minPart,
+      budget,
+      lods,
+      normals,
+      format,
+      quantize: values.quantize,
+      meshopt: values.meshopt,
       provenance: { file: basename(input), sha256, bytes: statSync(input).size },
       onProgress: progress.update,
       logger: { warn: () => {} },
     });
     progress.done();
-    writeFileAtomic(outPath, result.glb!);
+    writeFileAtomic(outPath, result.bytes!);
     const report = result.report;
     report.timings = { open: openSecs, ...report.timings, total: Math.round(performance.now() - t0) / 1000 };
-    report.output = { path: outPath, bytes: result.glb!.length, format: 'glb' };
+    report.output = { path: outPath, bytes: result.bytes!.length, format };
     if (reportPath) writeFileAtomic(reportPath, JSON.stringify(report, null, 2) + '\n');
     for (const w of report.warnings) process.stderr.write(`fieldkiln: warning: ${w}\n`);
     const m = report.mesh;
@@ -107,9 +140,28 @@ export async function runBake(argv: string[]): Promise<number> {
         `${m.components} component(s), genus ${m.genus ?? 'n/a'}, area ${m.area.toFixed(4)} m², volume ${m.volume.toFixed(5)} m³, ` +
         `${report.output.bytes} bytes, ${report.timings.total} s\n`,
     );
+    if (report.decimation.targetTriangles !== null || report.lods.length > 0) {
+      const levels = [`base ${report.decimation.triangles} (max error ${mm(report.decimation.maxError)})`, ...report.lods.map((l) => `LOD${l.level} ${l.triangles} (${mm(l.maxError)})`)];
+      process.stdout.write(`  triangles: ${levels.join(', ')}\n`);
+    }
     return 0;
   } finally {
     progress.done();
     await field.dispose?.();
   }
+}
+
+/** The output format: --out's extension, or --format; they must agree when both are given. */
+function outputFormat(out: string, flag: string | undefined) {
+  const fromFlag = parseChoice('format', flag, EXPORT_FORMATS);
+  const ext = extname(out);
+  const fromExt = formatFromExtension(ext);
+  if (fromFlag && fromExt && fromFlag !== fromExt) throw new UsageError(`--format ${fromFlag} disagrees with --out's extension '${ext}'`);
+  const format = fromFlag ?? fromExt;
+  if (!format) throw new UsageError(`--out must end in ${EXPORT_FORMATS.map((f) => '.' + f).join(', ')}, or give --format (got '${out}')`);
+  return format;
+}
+
+function mm(metres: number): string {
+  return `${(metres * 1000).toFixed(2)} mm`;
 }
