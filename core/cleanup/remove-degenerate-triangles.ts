@@ -30,6 +30,7 @@ export interface RemoveDegenerateOptions {
   maxPasses?: number;
 }
 
+/** Defaults of {@link removeDegenerateTriangles}. */
 export const REMOVE_DEGENERATE_DEFAULTS: Required<RemoveDegenerateOptions> = { minArea: 0, maxPasses: 8 };
 
 /** What {@link removeDegenerateTriangles} did. */

@@ -35,6 +35,7 @@ export interface BakeColorsOptions {
   signal?: AbortSignal;
 }
 
+/** Defaults of {@link bakeVertexColors}. */
 export const BAKE_COLORS_DEFAULTS = {
   /** Our own choice: about two cells' worth of area per vertex is where an undecimated MC mesh ends. */
   spreadCells: 1.5,

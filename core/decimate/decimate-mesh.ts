@@ -21,11 +21,17 @@
  * the asked one. Whatever is kept, a warning says why when it is not the first attempt. If nothing
  * passes, the input is returned unchanged, with a warning.
  *
- * Notes from trying (torus recipe R 0.6 r 0.2, depth 8, 226 640 → 20 000 triangles): plain
- * `simplify` stayed closed; `simplifyWithAttributes` with normal weight 0.5 (or 0.1) left one (two)
- * folded pairs, with 0.25 or 1 none. After the fold repair every weight passed on the first
- * attempt. `Regularize` alone also fixed it but raised the largest distance from the true surface
- * from 1.16 mm to 1.52 mm, so it is the second attempt, not the first.
+ * Notes from trying (torus recipe R 0.6 r 0.2, depth 8, 226 640 → 20 000 triangles, busy 2-core machine):
+ * - With area-weighted normals as attributes, normal weight 0.5 left one folded pair (one edge used
+ *   4 times), 0.1 left two, 0.25 and 1 none; plain `simplify` none. `Regularize` fixed it too, but
+ *   raised the largest distance from the true surface from 1.16 mm to 1.52 mm (plain MC of similar
+ *   size: 1.45 mm), so it is the second attempt and the fold repair comes first.
+ * - With field normals as attributes and the fold repair, every weight passed on the first attempt;
+ *   true surface → mesh distance for weights 0 / 0.1 / 0.25 / 0.5 / 1: 1.43 / 1.02 / 1.11 / 1.11 /
+ *   1.44 mm. 0.5 is the default (0.1 did better here but left more folds without normals from the field).
+ * - A torus asked for 20 triangles (depth 5) pinches at 20, 25 and 31 triangles and stops short at 38.
+ * - Measuring `maxError` (below) costs about as much as the simplification itself: 1.6 s for the
+ *   226 640 → 20 000 case.
  *
  * `maxError` in the result is measured, not the simplifier's estimate (with attributes, its
  * estimate mixes in attribute error): the largest distance between the input and the output,
@@ -55,6 +61,7 @@ export interface DecimateOptions {
   inputReport?: MeshReport;
 }
 
+/** Defaults of {@link decimateMesh} (weights are per attribute component, relative to positions in the simplifier's units). */
 export const DECIMATE_DEFAULTS = {
   normalWeight: 0.5,
   colorWeight: 1,

@@ -11,6 +11,7 @@ import { writeObj } from './write-obj.js';
 import { writePly } from './write-ply.js';
 import { writeStl } from './write-stl.js';
 
+/** Output formats, by file extension. */
 export type ExportFormat = 'glb' | 'gltf' | 'ply' | 'stl' | 'obj';
 export const EXPORT_FORMATS: readonly ExportFormat[] = ['glb', 'gltf', 'ply', 'stl', 'obj'];
 

@@ -40,6 +40,7 @@ export interface WriteGlbOptions {
   meshopt?: boolean;
 }
 
+/** Defaults of {@link writeGlb}, and the material it writes (roughness unitless 0..1, base color linear RGBA). */
 export const WRITE_GLB_DEFAULTS = {
   name: 'fieldkiln-mesh',
   quantize: false,

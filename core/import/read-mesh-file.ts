@@ -9,6 +9,7 @@ import { readObj } from './read-obj.js';
 import { readPly } from './read-ply.js';
 import { readStl } from './read-stl.js';
 
+/** Mesh file formats `fieldkiln check` reads, by file extension. */
 export type MeshFileFormat = 'glb' | 'gltf' | 'ply' | 'stl' | 'obj';
 export const MESH_FILE_FORMATS: readonly MeshFileFormat[] = ['glb', 'gltf', 'ply', 'stl', 'obj'];
 

@@ -29,6 +29,7 @@ export interface FieldGradientNormalsOptions {
   signal?: AbortSignal;
 }
 
+/** Defaults of {@link fieldGradientNormals}; `stepCells` is what the pipeline multiplies the cell size by, metres per cell. */
 export const FIELD_GRADIENT_NORMALS_DEFAULTS = {
   /** The step as a fraction of the sampling cell size that the pipeline uses. */
   stepCells: 0.5,

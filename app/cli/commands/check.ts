@@ -12,6 +12,7 @@ import { UsageError } from '../args.js';
 /** Exit status when the file was read but a check failed (0: all pass; 1: unreadable; 2: usage). */
 export const CHECK_FAILED_EXIT = 3;
 
+/** Help text of `fieldkiln check`. */
 export const CHECK_HELP = `fieldkiln check <mesh.glb|.gltf|.ply|.stl|.obj> [--json]
 
 Runs Fieldkiln's topology checks on every mesh in the file (each node of a glTF file, in world space):
@@ -40,6 +41,7 @@ export interface CheckedMesh {
   volume: number | null;
 }
 
+/** Runs `fieldkiln check` on `argv` (the arguments after `check`); resolves to the exit status. */
 export async function runCheck(argv: string[]): Promise<number> {
   const { values, positionals } = parseArgs({
     args: argv,

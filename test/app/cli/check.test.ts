@@ -6,6 +6,7 @@ import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, test } from 'vitest';
+import { NodeIO, WebIO } from '@gltf-transform/core';
 import { exportMesh } from '../../../core/export/export-mesh.js';
 import { areaWeightedNormals } from '../../../core/normals/area-weighted-normals.js';
 import type { MeshData } from '../../../core/types.js';
@@ -53,6 +54,15 @@ describe('check: good meshes', () => {
   });
 });
 
+test('a .gltf with its buffer in a separate .bin beside it (as other tools write it) is read and passes', async () => {
+  const doc = await new WebIO().readBinary(await exportMesh('glb', { ...octahedron(), normals: areaWeightedNormals(octahedron().positions, octahedron().indices) }));
+  await new NodeIO().write(join(dir, 'sep.gltf'), doc);
+  expect(readFileSync(join(dir, 'sep.gltf'), 'utf8')).toMatch(/"uri": ?"sep\.bin"/);
+  const r = runCli(['check', join(dir, 'sep.gltf'), '--json']);
+  expect(r.code, r.stderr).toBe(0);
+  expect(JSON.parse(r.stdout).meshes[0].triangles).toBe(8);
+});
+
 describe('check: broken meshes fail with exit 3 and say where', () => {
   test('one triangle removed (hole): closed fails at the removed face', async () => {
     const r = runCli(['check', await write('hole.ply', withHole(octahedron(), 0))]);
@@ -90,6 +100,5 @@ describe('check: bad input', () => {
     expect(j.stderr).toMatch(/glTF: could not read the file/);
     expect(j.stderr.match(/error:/g)?.length).toBe(1);
     expect(j.stderr).not.toMatch(/\n\s+at /);
-    void readFileSync;
   });
 });
