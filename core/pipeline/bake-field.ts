@@ -7,7 +7,7 @@
  */
 import type { Field } from '../fields/field.js';
 import type { Bounds, Logger, MeshData, ProgressFn } from '../types.js';
-import { FieldkilnError, throwIfAborted } from '../types.js';
+import { CancelledError, FieldkilnError, throwIfAborted } from '../types.js';
 import { sampleOctree, SAMPLE_OCTREE_DEFAULTS, type SurfaceCells } from '../sampling/sample-octree.js';
 import { marchingCubes } from '../meshing/marching-cubes.js';
 import { dualContour } from '../meshing/dual-contouring.js';
@@ -149,6 +149,25 @@ export interface BakeResult {
  * const { glb, report } = await bakeField(field, { depth: 8 });
  */
 export async function bakeField(field: Field, options: BakeOptions = {}): Promise<BakeResult> {
+  // Any failure that is not the user's input (a worker that crashed, a runtime that threw) ends the job
+  // with an error that names the stage it happened in.
+  let stage = 'sample';
+  const onProgress = options.onProgress;
+  try {
+    return await bakeStages(field, {
+      ...options,
+      onProgress: (name, fraction) => {
+        if (name !== 'done') stage = name;
+        onProgress?.(name, fraction);
+      },
+    });
+  } catch (e) {
+    if (e instanceof FieldkilnError || e instanceof CancelledError) throw e;
+    throw new FieldkilnError(`the ${stage} stage failed: ${(e as Error)?.message ?? String(e)}`);
+  }
+}
+
+async function bakeStages(field: Field, options: BakeOptions): Promise<BakeResult> {
   const t0 = performance.now();
   const timings: Record<string, number> = {};
   const warnings: string[] = [];

@@ -1,5 +1,6 @@
 /** `fieldkiln bake <field> --out <file.glb|.gltf|.ply|.stl|.obj> …`: the whole job for one field. */
 import { createHash } from 'node:crypto';
+import { freemem } from 'node:os';
 import { readFileSync, statSync } from 'node:fs';
 import { basename, extname, resolve } from 'node:path';
 import { parseArgs } from 'node:util';
@@ -8,6 +9,10 @@ import { EXPORT_FORMATS, formatFromExtension } from '../../../core/export/export
 import { SMALL_PART_WARNING_FRACTION } from '../../../core/cleanup/remove-small-parts.js';
 import { SAMPLE_OCTREE_DEFAULTS } from '../../../core/sampling/sample-octree.js';
 import { openField } from '../../fields/open-field.js';
+import { estimateCost, deepestFitting } from '../../../core/sampling/estimate-cost.js';
+import { probeField } from '../../../core/sampling/probe-field.js';
+import type { Field } from '../../../core/fields/field.js';
+import { FieldkilnError, type Bounds } from '../../../core/types.js';
 import { checkWritable, writeFileAtomic } from '../../node/atomic-write.js';
 import { parseBoundsOption, parseChoice, parseIntegerOption, parseKindOption, parseNumberOption, UsageError } from '../args.js';
 import { makeProgress } from '../progress.js';
@@ -37,6 +42,7 @@ Turns a field (.onnx neural field, .npy grid with .json sidecar, .json recipe) i
   --meshopt               glTF/GLB: compress with EXT_meshopt_compression (implies --quantize; smallest files)
   --report <file.json>    also write the report as JSON
   --overwrite             replace existing output files
+  --force                 run even when the memory estimate exceeds the free memory
   --quiet                 no progress on stderr
 
 Vertex colors are linear RGB (glTF COLOR_0); PLY and OBJ get them sRGB-encoded, as their readers expect.
@@ -66,6 +72,7 @@ export async function runBake(argv: string[]): Promise<number> {
       meshopt: { type: 'boolean', default: false },
       report: { type: 'string' },
       overwrite: { type: 'boolean', default: false },
+      force: { type: 'boolean', default: false },
       quiet: { type: 'boolean', default: false },
       help: { type: 'boolean', short: 'h' },
     },
@@ -106,6 +113,7 @@ export async function runBake(argv: string[]): Promise<number> {
   const field = await openField(input, { kind, bounds, level });
   const openSecs = Math.round(performance.now() - t0) / 1000;
   try {
+    const early = await guardResources(field, { depth: depth ?? BAKE_DEFAULTS.depth, level, bounds, lipschitz, startDepth, force: values.force ?? false });
     const bytes = readFileSync(input);
     const sha256 = createHash('sha256').update(bytes).digest('hex');
     const result = await bakeField(field, {
@@ -130,6 +138,7 @@ export async function runBake(argv: string[]): Promise<number> {
     progress.done();
     writeFileAtomic(outPath, result.bytes!);
     const report = result.report;
+    report.warnings.unshift(...early);
     report.timings = { open: openSecs, ...report.timings, total: Math.round(performance.now() - t0) / 1000 };
     report.output = { path: outPath, bytes: result.bytes!.length, format };
     if (reportPath) writeFileAtomic(reportPath, JSON.stringify(report, null, 2) + '\n');
@@ -150,6 +159,41 @@ export async function runBake(argv: string[]): Promise<number> {
     await field.dispose?.();
   }
 }
+
+/**
+ * Before the real run: warns when the level lies outside the values a coarse probe sees, and refuses
+ * (unless `force`) when the estimated memory exceeds 80% of the free memory, naming the estimate and
+ * the deepest level that fits. `FIELDKILN_FREE_MEMORY` (bytes) stands in for the free memory in tests.
+ */
+async function guardResources(
+  field: Field,
+  o: { depth: number; level?: number; bounds?: Bounds; lipschitz?: number; startDepth?: number; force: boolean },
+): Promise<string[]> {
+  const warnings: string[] = [];
+  const lev = o.level ?? field.defaultLevel;
+  if (lev !== undefined) {
+    const probe = await probeField(field, { level: lev, bounds: o.bounds });
+    const [lo, hi] = probe.valueRange;
+    if (Number.isFinite(lo) && (lev <= lo || lev >= hi)) {
+      warnings.push(`level ${lev} lies outside the values the field takes on a coarse probe (${sig(lo)} to ${sig(hi)}); the surface may be empty or tiny`);
+    }
+  }
+  if (o.force || o.depth <= 6) return warnings;
+  const est = await estimateCost(field, { depth: o.depth, level: lev, bounds: o.bounds, lipschitz: o.lipschitz, startDepth: o.startDepth });
+  const free = Number(process.env.FIELDKILN_FREE_MEMORY) || freemem();
+  const budget = 0.8 * free;
+  if (est.bytes > budget) {
+    const fit = deepestFitting(est, budget);
+    throw new FieldkilnError(
+      `depth ${o.depth} would need about ${gib(est.bytes)} of memory (about ${sig(est.evaluations)} field evaluations and ${sig(est.triangles)} triangles before any budget), ` +
+        `more than the ${gib(free)} free; ${fit ? `try --depth ${fit}` : 'no depth fits'}, or pass --force to run anyway`,
+    );
+  }
+  return warnings;
+}
+
+const gib = (b: number) => `${(b / 2 ** 30).toFixed(b < 2 ** 30 ? 2 : 1)} GiB`;
+const sig = (v: number) => Number(v.toPrecision(3)).toString();
 
 /** The output format: --out's extension, or --format; they must agree when both are given. */
 function outputFormat(out: string, flag: string | undefined) {
