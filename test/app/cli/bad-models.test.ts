@@ -51,6 +51,26 @@ function throwingModel(): string {
   return p;
 }
 
+describe('models whose input does not fit', () => {
+  const cases: [string, { name: string; elemType?: number; shape: (number | string)[] }, RegExp][] = [
+    ['no float input (int64 points)', { name: 'points', elemType: 7, shape: ['N', 3] }, /the model has inputs: points int64 \[N,3\]/],
+    ['input of the wrong rank', { name: 'points', shape: ['N', 3, 1] }, /the model has inputs: points float32 \[N,3,1\]/],
+    ['input of the wrong width', { name: 'points', shape: ['N', 2] }, /the model has inputs: points float32 \[N,2\]/],
+  ];
+  for (const [name, input, pattern] of cases) {
+    test(name, () => {
+      const p = join(dir, name.replace(/\W+/g, '-') + '.onnx');
+      writeFileSync(p, writeOnnxModel({ inputs: [input], outputs: [{ name: 'sdf', elemType: input.elemType, shape: ['N', 1] }], nodes: [{ op: 'Identity', inputs: ['points'], outputs: ['sdf'] }], metadata: META }));
+      const out = join(dir, 'in.glb');
+      const r = runCli(['bake', p, '--out', out, '--depth', '4', '--quiet']);
+      expect(r.code).toBe(1);
+      expect(r.stderr).toMatch(/expected an input named 'points' of shape \[N,3\] float32/);
+      expect(r.stderr).toMatch(pattern);
+      expect(existsSync(out)).toBe(false);
+    });
+  }
+});
+
 describe('models that fail at run time', () => {
   test('NaN for part of the bounds: the count and the first point by default, no file', () => {
     const out = join(dir, 'nan.glb');
