@@ -38,6 +38,14 @@ function timed(field: Field): Field & { seconds: number; points: number } {
     t.points += p.length / 3;
     return v;
   };
+  if (field.evaluateColor) {
+    t.evaluateColor = async (p: Float32Array, s?: AbortSignal) => {
+      const t0 = performance.now();
+      const v = await field.evaluateColor!(p, s);
+      t.seconds += (performance.now() - t0) / 1000;
+      return v;
+    };
+  }
   return t;
 }
 
