@@ -13,6 +13,7 @@
  */
 import { readFile, stat } from 'node:fs/promises';
 import path from 'node:path';
+import { availableParallelism } from 'node:os';
 import * as ort from 'onnxruntime-node';
 import type { Bounds, FieldKind } from '../../core/types.js';
 import { FieldkilnError, boundsProblem } from '../../core/types.js';
@@ -52,12 +53,16 @@ export const FIELD_EXTENSIONS: Readonly<Record<string, string>> = {
 };
 
 /**
- * onnxruntime session options: one thread was fastest on a busy 2-core machine (DEPENDENCIES.md §1).
+ * onnxruntime session options. Intra-op threads: one per core, chosen by measurement (`npm run bench`,
+ * 2026-12-02, 2-core machine, otherwise idle): 2 threads against 1 gave 5.6e5 vs 3.3e5 points/s on
+ * sphere_sdf.onnx, 2.2e5 vs 1.3e5 on lantern_density.onnx and 3.3e6 vs 2.6e6 on torus_sdf.onnx at batch
+ * 65 536 (batches of 16 384–262 144 were within 10% of each other). DEPENDENCIES.md §1 saw 1 thread win
+ * on a machine busy with other jobs; on a busy machine pass fewer threads (OpenFieldOptions).
  * `logSeverityLevel: 3` (errors only) keeps the runtime's own warnings (e.g. "Error merging shape
  * info") off the console; Fieldkiln checks the outputs itself and reports in its own words.
  */
 export const ONNX_SESSION_OPTIONS: ort.InferenceSession.SessionOptions = {
-  intraOpNumThreads: 1,
+  intraOpNumThreads: Math.max(1, availableParallelism()),
   interOpNumThreads: 1,
   executionMode: 'sequential',
   graphOptimizationLevel: 'all',

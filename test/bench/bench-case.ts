@@ -10,6 +10,7 @@ import { join, resolve } from 'node:path';
 import { openField } from '../../app/fields/open-field.js';
 import { bakeField } from '../../core/pipeline/bake-field.js';
 import { sampleDense } from '../../core/sampling/sample-dense.js';
+import { sampleOctree } from '../../core/sampling/sample-octree.js';
 import { marchingCubes } from '../../core/meshing/marching-cubes.js';
 import { marchingCubesGrid } from '../../core/meshing/marching-cubes-grid.js';
 import { analyzeMesh } from '../../core/checks/analyze-mesh.js';
@@ -23,6 +24,7 @@ const ROOT = resolve(new URL('.', import.meta.url).pathname, '..', '..', '..');
 type Spec =
   | { type: 'pipeline'; file: string; depth: number; threads?: number }
   | { type: 'usual'; file: string; depth: number; slabs?: number }
+  | { type: 'raw'; file: string; depth: number }
   | { type: 'inference'; file: string; batch: number; threads?: number }
   | { type: 'grid'; shape: BenchShape; n: number; isosurface: boolean };
 
@@ -71,6 +73,17 @@ async function run(spec: Spec): Promise<Record<string, unknown>> {
       watertight: report.mesh.watertight,
       peakRss: rss(),
     };
+  }
+  if (spec.type === 'raw') {
+    // Ours doing the same work as the usual way: adaptive sampling + marching cubes to the same raw mesh.
+    const field = await openField(resolve(ROOT, spec.file));
+    const t0 = performance.now();
+    const cells = await sampleOctree(field, { depth: spec.depth });
+    const mesh = marchingCubes(cells);
+    const seconds = (performance.now() - t0) / 1000;
+    const a = analyzeMesh(mesh);
+    await field.dispose?.();
+    return { seconds, evaluations: cells.evaluations, triangles: a.triangles, area: a.area };
   }
   if (spec.type === 'usual') {
     const field = await openField(resolve(ROOT, spec.file));
