@@ -30,7 +30,7 @@ describe('fields are data', () => {
 
   test('script in a recipe is rejected as data, never run', () => {
     const marker = '__fieldkiln_ran__';
-    const attempts = [
+    const attempts: unknown[] = [
       { format: 'fieldkiln-recipe', version: 1, root: { type: 'sphere', radius: `globalThis.${marker} = 1` } },
       { format: 'fieldkiln-recipe', version: 1, root: { type: 'sphere', radius: 0.2, constructor: { prototype: { polluted: true } } } },
       { format: 'fieldkiln-recipe', version: 1, root: { type: 'toString', radius: 0.2 } },
