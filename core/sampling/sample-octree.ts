@@ -262,24 +262,33 @@ export async function sampleOctree(field: Field, options: SampleOctreeOptions = 
       active = next;
     }
     // `active` now holds finest-level cells (stride 1), children of level d−1 survivors. Each child has
-    // one corner that is a corner of its parent (even coordinates); evaluating those first (an eighth of
-    // the nodes) prunes the children whose shared corner is farther than L·√3·h (the child's diagonal)
-    // from the level, before the rest of their corners are asked for.
+    // two corners known cheaply: one corner of its parent (even coordinates; an eighth of the nodes) and
+    // its parent's centre (odd coordinates; mostly evaluated already), which are opposite corners q and
+    // c of the child. A zero at p needs |s(q)| ≤ L·|p−q| and |s(c)| ≤ L·|p−c|, and over the cube
+    // |p−q| + |p−c| ≤ (1 + √2)·h (its largest value, at the other six corners), so a child is pruned when
+    // |s(q)| + |s(c)| > L·(1 + √2)·h, or either alone exceeds L·√3·h, before its other corners are asked for.
     const a3 = active.data;
-    const shared = new Int32Array(active.length / 3).fill(-1);
+    const nChildren = active.length / 3;
+    const cq = new Int32Array(nChildren).fill(-1);
+    const cc = new Int32Array(nChildren).fill(-1);
     for (let a = 0, c = 0; a < active.length; a += 3, c++) {
       const i = a3[a], j = a3[a + 1], k = a3[a + 2];
-      if (i < nx && j < ny && k < nz) shared[c] = store.request(2 * (i + (i & 1)), 2 * (j + (j & 1)), 2 * (k + (k & 1)));
+      if (i >= nx || j >= ny || k >= nz) continue;
+      cq[c] = store.request(2 * (i + (i & 1)), 2 * (j + (j & 1)), 2 * (k + (k & 1)));
+      cc[c] = store.request(2 * (i + 1 - (i & 1)), 2 * (j + 1 - (j & 1)), 2 * (k + 1 - (k & 1)));
     }
     await store.flush();
     const reach = L * Math.sqrt(3) * h;
+    const pairReach = L * (1 + Math.SQRT2) * h;
     finest = new IntList(active.length);
     for (let a = 0, c = 0; a < active.length; a += 3, c++) {
-      if (shared[c] < 0) continue;
+      if (cq[c] < 0) continue;
       const i = a3[a], j = a3[a + 1], k = a3[a + 2];
-      const s = store.vals[shared[c]];
+      const sq = store.vals[cq[c]];
+      const sc = store.vals[cc[c]];
       const touches = i === 0 || j === 0 || k === 0 || i === nx - 1 || j === ny - 1 || k === nz - 1;
-      if (Math.abs(s) <= reach || (s < 0 && touches)) finest.push3(i, j, k);
+      const near = Math.abs(sq) <= reach && Math.abs(sc) <= reach && Math.abs(sq) + Math.abs(sc) <= pairReach;
+      if (near || (touches && (sq < 0 || sc < 0))) finest.push3(i, j, k);
     }
   } else {
     const s0 = Math.min(options.startDepth ?? SAMPLE_OCTREE_DEFAULTS.startDepth, depth);
