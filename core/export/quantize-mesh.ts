@@ -4,10 +4,11 @@
  * cube around the mesh, undone by a node transform (translation = cube centre, uniform scale =
  * half its edge); normals as normalized int8; colors as normalized uint8 (valid glTF without the
  * extension); indices as uint16 when fewer than 65 535 vertices (65 535 itself is the
- * primitive-restart value, which glTF forbids as an index).
+ * primitive-restart value, which glTF forbids as an index); texture maps' UVs as normalized uint16
+ * and tangents as normalized int8 (`quantizeUvs`, `quantizeTangents`).
  *
- * Precision: positions to (half edge) / 32 767, e.g. 15 µm on a 1 m prop; normals to 1/127 per
- * component (under 0.5°); colors to 1/255.
+ * Precision: positions to (half edge) / 32 767, e.g. 15 µm on a 1 m prop; normals and tangents to
+ * 1/127 per component (under 0.5°); colors to 1/255; UVs to 1/65 535.
  */
 import type { MeshData } from '../types.js';
 
@@ -96,6 +97,33 @@ export function quantizeNormals(n: Float32Array): Int8Array {
         out[i + 2] = c[2];
       }
     }
+  }
+  return out;
+}
+
+/**
+ * UVs in 0..1 to normalized uint16 (valid glTF TEXCOORD without any extension): 1/65 535 of the
+ * texture, a thirtieth of a texel at 2048². Values outside 0..1 are clamped.
+ */
+export function quantizeUvs(uvs: Float32Array): Uint16Array {
+  const out = new Uint16Array(uvs.length);
+  for (let i = 0; i < uvs.length; i++) out[i] = Math.round(65535 * Math.min(1, Math.max(0, Number.isFinite(uvs[i]) ? uvs[i] : 0)));
+  return out;
+}
+
+/**
+ * Tangents (unit xyz, w = ±1; 4 floats per vertex) to normalized int8 as KHR_mesh_quantization
+ * allows for TANGENT: xyz like {@link quantizeNormals} (decoded length nearest 1), w as ±127.
+ */
+export function quantizeTangents(tangents: Float32Array): Int8Array {
+  const V = tangents.length / 4;
+  const xyz = new Float32Array(3 * V);
+  for (let v = 0; v < V; v++) xyz.set(tangents.subarray(4 * v, 4 * v + 3), 3 * v);
+  const q = quantizeNormals(xyz);
+  const out = new Int8Array(4 * V);
+  for (let v = 0; v < V; v++) {
+    out.set(q.subarray(3 * v, 3 * v + 3), 4 * v);
+    out[4 * v + 3] = tangents[4 * v + 3] < 0 ? -127 : 127;
   }
   return out;
 }

@@ -1,7 +1,8 @@
 /**
  * Writes meshes as glTF 2.0 JSON (`.gltf`), self-contained: the same document as the GLB
  * (`write-glb.ts`: LODs, material, provenance, quantization and meshopt options), with each
- * buffer embedded as a base64 `data:application/octet-stream` URI, so one file carries everything.
+ * buffer embedded as a base64 `data:application/octet-stream` URI and each texture image as a
+ * `data:image/png` URI, so one file carries everything.
  * Base64 makes the buffers a third larger; use GLB when size matters.
  */
 import type { MeshData } from '../types.js';
@@ -17,6 +18,9 @@ export async function writeGltf(mesh: MeshData, options: WriteGlbOptions = {}): 
   const { json, resources } = await io.writeJSON(buildDocument(mesh, options), { basename: 'fieldkiln' });
   for (const buffer of json.buffers ?? []) {
     if (buffer.uri && resources[buffer.uri]) buffer.uri = `data:application/octet-stream;base64,${toBase64(resources[buffer.uri])}`;
+  }
+  for (const image of json.images ?? []) {
+    if (image.uri && resources[image.uri]) image.uri = `data:${image.mimeType ?? 'image/png'};base64,${toBase64(resources[image.uri])}`;
   }
   return new TextEncoder().encode(JSON.stringify(json, null, 2) + '\n');
 }

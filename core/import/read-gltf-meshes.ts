@@ -5,7 +5,8 @@
  * as glTF prescribes. Quantized (KHR_mesh_quantization) and meshopt-compressed
  * (EXT_meshopt_compression) files are decoded. The primitives of one node are joined, and their
  * vertices welded by exact position (`weld-exact.ts`), since a surface split by material shares
- * its seams only by position.
+ * its seams only by position; so is a primitive with TEXCOORD_0, whose vertices are split along
+ * its UV seams.
  */
 import { WebIO, type Node } from '@gltf-transform/core';
 import { EXTMeshoptCompression, KHRMeshQuantization } from '@gltf-transform/extensions';
@@ -88,7 +89,9 @@ export async function readGltfMeshes(bytes: Uint8Array, options: ReadGltfOptions
         }
       }
       const joined: MeshData = { positions: Float32Array.from(pos), indices: Uint32Array.from(tri) };
-      out.push({ name: node.getName() || `node ${n}`, mesh: mesh.listPrimitives().length > 1 ? weldExact(joined) : joined });
+      // Split surfaces share their seams only by position: several primitives (materials), or UV seams.
+      const split = mesh.listPrimitives().length > 1 || mesh.listPrimitives().some((q) => q.getAttribute('TEXCOORD_0') !== null);
+      out.push({ name: node.getName() || `node ${n}`, mesh: split ? weldExact(joined) : joined });
     });
   return out;
 }

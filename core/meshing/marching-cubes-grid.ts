@@ -13,8 +13,7 @@
  *   grid's outer layer counts as outside, so on the same lattice both paths give the same mesh.
  */
 import type { FieldKind, MeshData } from '../types.js';
-import { cellLoops, EDGE_AXIS, EDGE_CORNERS, FACE_UV_CORNERS, insideJoined, isAmbiguousFace } from './cell-loops.js';
-import { EDGE_MARGIN } from './marching-cubes.js';
+import { cellFaceBits, cellLoops, EDGE_AXIS, EDGE_CORNERS, edgeCrossing } from './cell-loops.js';
 import { MeshBuilder } from './mesh-builder.js';
 
 /** Options for {@link marchingCubesGrid}. */
@@ -141,12 +140,7 @@ export function marchingCubesGrid(values: Float32Array, dims: [number, number, n
               }
               if (mask === 0 || mask === 255) continue;
               surfaceCells++;
-              let faceBits = 0;
-              for (let f = 0; f < 6; f++) {
-                const fc = FACE_UV_CORNERS[f];
-                if (!isAmbiguousFace(v[fc[0]] < 0, v[fc[1]] < 0, v[fc[2]] < 0, v[fc[3]] < 0)) continue;
-                if (insideJoined(v[fc[0]], v[fc[1]], v[fc[2]], v[fc[3]])) faceBits |= 1 << f;
-              }
+              const faceBits = cellFaceBits(v);
               for (const loop of cellLoops(mask, faceBits)) {
                 for (let m = 0; m < loop.length; m++) {
                   const e = loop[m];
@@ -157,10 +151,7 @@ export function marchingCubesGrid(values: Float32Array, dims: [number, number, n
                   let id: number;
                   if (stamp[slot] === gen) id = ids[slot];
                   else {
-                    const s0 = v[c0], s1 = v[c1];
-                    let t = s0 / (s0 - s1);
-                    if (!(t >= EDGE_MARGIN)) t = EDGE_MARGIN;
-                    else if (t > 1 - EDGE_MARGIN) t = 1 - EDGE_MARGIN;
+                    const t = edgeCrossing(v[c0], v[c1]);
                     const k0 = kBase + lz;
                     id = out.addVertex(ox + sx * (i0 + (a === 0 ? t : 0)), oy + sy * (j0 + (a === 1 ? t : 0)), oz + sz * (k0 + (a === 2 ? t : 0)));
                     ids[slot] = id;

@@ -21,10 +21,9 @@ import type { MeshData } from '../types.js';
 import type { SurfaceCells } from '../sampling/sample-octree.js';
 import { KeyMap } from '../sampling/key-map.js';
 import { MeshBuilder } from './mesh-builder.js';
-import { cellLoops, EDGE_AXIS, EDGE_CORNERS, FACE_UV_CORNERS, insideJoined, isAmbiguousFace } from './cell-loops.js';
+import { cellFaceBits, cellLoops, EDGE_AXIS, EDGE_CORNERS, edgeCrossing } from './cell-loops.js';
 
-/** Fraction of an edge's length that a vertex keeps from either end. */
-export const EDGE_MARGIN = 1e-3;
+export { EDGE_MARGIN } from './cell-loops.js';
 
 /** Largest node plane ((nx+1)·(ny+1)) indexed by flat arrays: 2^21 nodes is 48 MB for both planes, depth 10 on a cube. */
 export const PLANE_INDEX_LIMIT = 2 ** 21;
@@ -69,12 +68,7 @@ export function marchingCubes(cells: SurfaceCells): MeshData {
       v[q] = corners[8 * c + q];
       if (v[q] < 0) mask |= 1 << q;
     }
-    let faceBits = 0;
-    for (let f = 0; f < 6; f++) {
-      const fc = FACE_UV_CORNERS[f];
-      if (!isAmbiguousFace(v[fc[0]] < 0, v[fc[1]] < 0, v[fc[2]] < 0, v[fc[3]] < 0)) continue;
-      if (insideJoined(v[fc[0]], v[fc[1]], v[fc[2]], v[fc[3]])) faceBits |= 1 << f;
-    }
+    const faceBits = cellFaceBits(v);
     for (const loop of cellLoops(mask, faceBits)) {
       loopIds.length = 0;
       for (const e of loop) {
@@ -91,10 +85,7 @@ export function marchingCubes(cells: SurfaceCells): MeshData {
           id = st[slot] === k0 + 1 ? ids[slot] : NaN;
         } else id = edgeVertex!.get(3 * (i0 + (nx + 1) * (j0 + (ny + 1) * k0)) + a);
         if (Number.isNaN(id)) {
-          const s0 = v[c0], s1 = v[c1];
-          let t = s0 / (s0 - s1);
-          if (!(t >= EDGE_MARGIN)) t = EDGE_MARGIN;
-          else if (t > 1 - EDGE_MARGIN) t = 1 - EDGE_MARGIN;
+          const t = edgeCrossing(v[c0], v[c1]);
           id = out.addVertex(ox + h * (i0 + (a === 0 ? t : 0)), oy + h * (j0 + (a === 1 ? t : 0)), oz + h * (k0 + (a === 2 ? t : 0)));
           if (usePlanes) {
             ids![slot] = id;

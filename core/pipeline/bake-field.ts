@@ -1,7 +1,8 @@
 /**
  * The whole job for one field: sample → extract → cleanup → normals from the field → decimation to
  * the budget → LODs → color baking (after decimation, so every final vertex gets the field's color
- * at its own position) → checks → export (GLB, glTF, PLY, STL or OBJ), with a report.
+ * at its own position) → checks → texture maps and a collision hull (glTF, on request) → export
+ * (GLB, glTF, PLY, STL or OBJ), with a report.
  * Front ends (CLI, desktop app) call this; it touches no files. `timings` use `performance.now()`,
  * which Node, workers and browsers all have.
  */
@@ -23,7 +24,12 @@ import { decimateMesh, type DecimateResult } from '../decimate/decimate-mesh.js'
 import { buildLods } from '../decimate/build-lods.js';
 import { bakeVertexColors } from '../color/bake-vertex-colors.js';
 import { exportMesh, isGltfFormat, EXPORT_FORMATS, type ExportFormat } from '../export/export-mesh.js';
+import { WRITE_GLB_DEFAULTS } from '../export/write-glb.js';
 import { FIELDKILN_VERSION } from '../version.js';
+import { bakeTextures, TEXTURE_DEFAULTS, type BakeTexturesResult, type TextureReport } from '../texture/bake-textures.js';
+import type { UvAtlasModule } from '../texture/unwrap-mesh.js';
+import type { DeflateFn } from '../texture/encode-png.js';
+import { convexHull } from '../collision/convex-hull.js';
 
 export type MeshingMethod = 'marching-cubes' | 'dual-contouring';
 export const MESHING_METHODS: readonly MeshingMethod[] = ['marching-cubes', 'dual-contouring'];
@@ -62,6 +68,17 @@ export interface BakeOptions {
   quantize?: boolean;
   /** glTF: EXT_meshopt_compression (implies quantize). Default: false. */
   meshopt?: boolean;
+  /**
+   * glTF: base color and normal textures of this edge (texels, a power of two from 64 to 4096)
+   * baked from the field onto the base level (`core/texture/bake-textures.ts`). Default: 0 (none).
+   */
+  texture?: number;
+  /** The xatlas module for the UV layout (watlas after `Initialize()`); required with `texture`. */
+  unwrapper?: UvAtlasModule;
+  /** zlib compressor for the texture PNGs (e.g. Node's `zlib.deflateSync`). Default: stored, uncompressed. */
+  deflate?: DeflateFn;
+  /** glTF: a convex hull of the base level as node `<name>_collision` in scene `collision`. Default: false. */
+  collision?: boolean;
   signal?: AbortSignal;
   onProgress?: ProgressFn;
   logger?: Logger;
@@ -82,6 +99,9 @@ export const BAKE_DEFAULTS = {
   quantize: false,
   meshopt: false,
   method: 'marching-cubes' as MeshingMethod,
+  /** 0: no textures. */
+  texture: 0,
+  collision: false,
 };
 
 /** The report of one bake; the CLI adds `output`. */
@@ -124,6 +144,10 @@ export interface BakeReport {
   colors: { baked: boolean; averagedVertices: number };
   /** Every named check (core/checks) on the base level. */
   checks: Pick<CheckResult, 'name' | 'ok' | 'count' | 'unit' | 'where'>[];
+  /** Texture maps of the base level (size, charts, coverage, stretch, bakeSeconds, …); null without `texture`. */
+  texture: TextureReport | null;
+  /** The collision hull: its node's name and size; null without `collision`. */
+  collision: { node: string; triangles: number; vertices: number } | null;
   timings: Record<string, number>;
   output?: { path: string; bytes: number; format: string };
   warnings: string[];
@@ -140,6 +164,10 @@ export interface BakeResult {
   /** Further levels of detail (normals, and colors when the field has them). */
   lods: MeshData[];
   cells: SurfaceCells;
+  /** With `texture`: the base level split at UV seams, its UVs, tangents and images (what the glTF holds). */
+  textures?: BakeTexturesResult;
+  /** With `collision`: the convex hull of the base level. */
+  collision?: MeshData;
 }
 
 /**
@@ -334,6 +362,43 @@ async function bakeStages(field: Field, options: BakeOptions): Promise<BakeResul
     if (!l.watertight) warn(`LOD ${l.level} is not watertight`);
   });
 
+  // Texture maps and the collision hull, for glTF, on the checked base level.
+  const gltfOutput = isGltfFormat(shaping.format);
+  let textures: BakeTexturesResult | undefined;
+  if (shaping.texture > 0 && !gltfOutput) warn(`--texture applies to glTF and GLB only; the ${shaping.format.toUpperCase()} file is written without textures`);
+  else if (shaping.texture > 0) {
+    if (!options.unwrapper) throw new Error('bakeField: texture needs options.unwrapper (watlas after Initialize())');
+    throwIfAborted(options.signal);
+    progress('texture', 0);
+    t = performance.now();
+    textures = await bakeTextures(field, base, {
+      size: shaping.texture,
+      unwrapper: options.unwrapper,
+      level,
+      cellSize,
+      // The field's surface lies within the decimation's measured error of the base level, plus the sampling's own.
+      searchDistance: 2 * decimation.maxError + 2 * cellSize,
+      deflate: options.deflate,
+      signal: options.signal,
+      onProgress: (f) => progress('texture', f),
+    });
+    timings.texture = secs(t);
+    const tr = textures.report;
+    if (tr.unprojectedTexels > 0.01 * tr.bakedTexels) {
+      warn(`${tr.unprojectedTexels} of ${tr.bakedTexels} texels found no surface along the normal and were baked at the low-poly surface`);
+    }
+  }
+  let hull: MeshData | undefined;
+  if (shaping.collision && !gltfOutput) warn(`--collision applies to glTF and GLB only; the ${shaping.format.toUpperCase()} file is written without it`);
+  else if (shaping.collision) {
+    progress('collision', 0);
+    t = performance.now();
+    const h = convexHull(base.positions);
+    if (h) hull = h.mesh;
+    else warn('no collision hull: the mesh is flat (its vertices span no volume)');
+    timings.collision = secs(t);
+  }
+
   let glb: Uint8Array | undefined;
   let bytes: Uint8Array | undefined;
   if (!options.skipExport) {
@@ -343,10 +408,12 @@ async function bakeStages(field: Field, options: BakeOptions): Promise<BakeResul
     const gltf = isGltfFormat(shaping.format);
     if (!gltf && lodMeshes.length > 0) warn(`LODs are written only to glTF and GLB files; the ${shaping.format.toUpperCase()} file holds the base level`);
     if (!gltf && (shaping.quantize || shaping.meshopt)) warn(`--quantize and --meshopt apply to glTF and GLB only; the ${shaping.format.toUpperCase()} file is written without them`);
-    bytes = await exportMesh(shaping.format, base, {
+    bytes = await exportMesh(shaping.format, textures?.mesh ?? base, {
       lods: gltf ? lodMeshes : undefined,
       quantize: shaping.quantize,
       meshopt: shaping.meshopt,
+      textures: textures && { uvs: textures.uvs, tangents: textures.tangents, baseColorPng: textures.baseColorPng, normalPng: textures.normalPng },
+      collision: hull,
       extras: {
         source: { kind: field.kind, name: field.description.name, ...(options.provenance ?? {}) },
         options: {
@@ -360,6 +427,8 @@ async function bakeStages(field: Field, options: BakeOptions): Promise<BakeResul
           normals: shaping.normals,
           quantize: shaping.quantize,
           meshopt: shaping.meshopt,
+          texture: shaping.texture,
+          collision: shaping.collision,
         },
       },
     });
@@ -401,10 +470,12 @@ async function bakeStages(field: Field, options: BakeOptions): Promise<BakeResul
     lods: lodReport,
     colors: { baked: colored, averagedVertices },
     checks,
+    texture: textures ? textures.report : null,
+    collision: hull ? { node: `${WRITE_GLB_NAME}_collision`, triangles: hull.indices.length / 3, vertices: hull.positions.length / 3 } : null,
     timings,
     warnings,
   };
-  return { mesh: base, report, glb, bytes, format: shaping.format, lods: lodMeshes, cells };
+  return { mesh: base, report, glb, bytes, format: shaping.format, lods: lodMeshes, cells, textures, collision: hull };
 }
 
 /** The shaping options with defaults, checked (misuse throws; the CLI checks user input first). */
@@ -419,13 +490,22 @@ function shapingOptions(o: BakeOptions) {
   if (!Number.isInteger(lods) || lods < 0 || lods > 16) throw new FieldkilnError(`lods must be a whole number from 0 to 16 (got ${lods})`);
   if (!NORMALS_METHODS.includes(normals)) throw new FieldkilnError(`unknown normals method '${normals}'; use one of: ${NORMALS_METHODS.join(', ')}`);
   if (!EXPORT_FORMATS.includes(format)) throw new FieldkilnError(`unknown output format '${format}'; use one of: ${EXPORT_FORMATS.join(', ')}`);
-  return { minPart, budget, lods, normals, format, quantize: o.quantize ?? BAKE_DEFAULTS.quantize, meshopt: o.meshopt ?? BAKE_DEFAULTS.meshopt };
+  const texture = o.texture ?? BAKE_DEFAULTS.texture;
+  const { minSize, maxSize } = TEXTURE_DEFAULTS;
+  if (!Number.isInteger(texture) || (texture !== 0 && (texture < minSize || texture > maxSize || (texture & (texture - 1)) !== 0))) {
+    throw new FieldkilnError(`texture must be 0 (none) or a power of two from ${minSize} to ${maxSize} texels (got ${texture})`);
+  }
+  const collision = o.collision ?? BAKE_DEFAULTS.collision;
+  return { minPart, budget, lods, normals, format, quantize: o.quantize ?? BAKE_DEFAULTS.quantize, meshopt: o.meshopt ?? BAKE_DEFAULTS.meshopt, texture, collision };
 }
 
 function clamp01(a: Float32Array): Float32Array {
   for (let i = 0; i < a.length; i++) a[i] = Number.isFinite(a[i]) ? Math.min(1, Math.max(0, a[i])) : 0;
   return a;
 }
+
+/** The base node's name in glTF output (the pipeline does not rename it). */
+const WRITE_GLB_NAME = WRITE_GLB_DEFAULTS.name;
 
 function secs(since: number): number {
   return Math.round(performance.now() - since) / 1000;

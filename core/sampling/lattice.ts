@@ -34,3 +34,21 @@ export function denseNodeCount(l: Lattice): number {
 export function nodeKey(l: Lattice, i: number, j: number, k: number): number {
   return i + (l.cells[0] + 1) * (j + (l.cells[1] + 1) * k);
 }
+
+/**
+ * World positions of the lattice nodes in z-planes k0..k1 (inclusive), x fastest, then y, then z:
+ * 3 floats per node. Default: every node.
+ */
+export function latticeNodePoints(l: Lattice, k0 = 0, k1 = l.cells[2]): Float32Array {
+  const [nx, ny] = l.cells;
+  const pts = new Float32Array((nx + 1) * (ny + 1) * (k1 - k0 + 1) * 3);
+  let q = 0;
+  for (let k = k0; k <= k1; k++)
+    for (let j = 0; j <= ny; j++)
+      for (let i = 0; i <= nx; i++) {
+        pts[q++] = l.origin[0] + i * l.cellSize;
+        pts[q++] = l.origin[1] + j * l.cellSize;
+        pts[q++] = l.origin[2] + k * l.cellSize;
+      }
+  return pts;
+}

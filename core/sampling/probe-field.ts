@@ -7,7 +7,7 @@
 import type { Field } from '../fields/field.js';
 import { signedFromValue } from '../fields/field.js';
 import type { Bounds } from '../types.js';
-import { makeLattice } from './lattice.js';
+import { latticeNodePoints, makeLattice } from './lattice.js';
 
 export interface FieldProbe {
   samples: number;
@@ -24,17 +24,8 @@ export interface FieldProbe {
 
 export async function probeField(field: Field, opts: { depth?: number; level?: number; bounds?: Bounds; signal?: AbortSignal } = {}): Promise<FieldProbe> {
   const lat = makeLattice(opts.bounds ?? field.bounds, opts.depth ?? 5);
-  const [nx, ny, nz] = lat.cells;
-  const n = (nx + 1) * (ny + 1) * (nz + 1);
-  const pts = new Float32Array(n * 3);
-  let q = 0;
-  for (let k = 0; k <= nz; k++)
-    for (let j = 0; j <= ny; j++)
-      for (let i = 0; i <= nx; i++) {
-        pts[q++] = lat.origin[0] + i * lat.cellSize;
-        pts[q++] = lat.origin[1] + j * lat.cellSize;
-        pts[q++] = lat.origin[2] + k * lat.cellSize;
-      }
+  const pts = latticeNodePoints(lat);
+  const n = pts.length / 3;
   const vals = await field.evaluate(pts, opts.signal);
   const finite: number[] = [];
   let nonFinite = 0;

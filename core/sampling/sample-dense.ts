@@ -8,7 +8,7 @@ import type { Field } from '../fields/field.js';
 import { signedFromValue } from '../fields/field.js';
 import type { Bounds } from '../types.js';
 import { FieldkilnError, throwIfAborted } from '../types.js';
-import { makeLattice, denseNodeCount } from './lattice.js';
+import { denseNodeCount, latticeNodePoints, makeLattice } from './lattice.js';
 import type { SurfaceCells } from './sample-octree.js';
 
 export async function sampleDense(
@@ -19,22 +19,13 @@ export async function sampleDense(
   if (level === undefined) throw new FieldkilnError('no iso-level: pass --level');
   const lat = makeLattice(options.bounds ?? field.bounds, options.depth);
   const [nx, ny, nz] = lat.cells;
-  const h = lat.cellSize;
   const slabN = (nx + 1) * (ny + 1);
-  const pts = new Float32Array(slabN * 3);
   let vmin = Infinity;
   let vmax = -Infinity;
   let closedAtBounds = 0;
   const evalSlab = async (k: number): Promise<Float32Array> => {
     throwIfAborted(options.signal);
-    let q = 0;
-    for (let j = 0; j <= ny; j++)
-      for (let i = 0; i <= nx; i++) {
-        pts[q++] = lat.origin[0] + i * h;
-        pts[q++] = lat.origin[1] + j * h;
-        pts[q++] = lat.origin[2] + k * h;
-      }
-    const v = await field.evaluate(pts, options.signal);
+    const v = await field.evaluate(latticeNodePoints(lat, k, k), options.signal);
     const s = new Float32Array(slabN);
     for (let j = 0; j <= ny; j++)
       for (let i = 0; i <= nx; i++) {

@@ -11,7 +11,7 @@ import { openField } from '../../../app/fields/open-field.js';
 import { sampleDense } from '../../../core/sampling/sample-dense.js';
 import { marchingCubes } from '../../../core/meshing/marching-cubes.js';
 import { analyzeMesh } from '../../../core/checks/analyze-mesh.js';
-import { makeLattice } from '../../../core/sampling/lattice.js';
+import { latticeNodePoints, makeLattice } from '../../../core/sampling/lattice.js';
 import type { Field } from '../../../core/fields/field.js';
 import { fixturePath, hasFixtures } from '../../helpers/fixtures.js';
 import { fnField, torusSdf } from '../../helpers/analytic-fields.js';
@@ -25,16 +25,7 @@ const isosurface = require('isosurface') as {
 async function oracle(field: Field, depth: number) {
   const lat = makeLattice(field.bounds, depth);
   const [nx, ny, nz] = lat.cells;
-  const n = (nx + 1) * (ny + 1) * (nz + 1);
-  const pts = new Float32Array(n * 3);
-  let q = 0;
-  for (let k = 0; k <= nz; k++)
-    for (let j = 0; j <= ny; j++)
-      for (let i = 0; i <= nx; i++) {
-        pts[q++] = lat.origin[0] + i * lat.cellSize;
-        pts[q++] = lat.origin[1] + j * lat.cellSize;
-        pts[q++] = lat.origin[2] + k * lat.cellSize;
-      }
+  const pts = latticeNodePoints(lat);
   const vals = await field.evaluate(pts);
   const at = (i: number, j: number, k: number) => vals[i + (nx + 1) * (j + (ny + 1) * k)] - (field.defaultLevel ?? 0);
   // Default bounds [[0,0,0], dims] put sample i at x = i (index space).
