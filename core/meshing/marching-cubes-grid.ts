@@ -131,14 +131,23 @@ export function marchingCubesGrid(values: Float32Array, dims: [number, number, n
               lm = rm;
               if (!touches && (raw === 0 || raw === 255)) continue;
               const base = i + nx * j + nxy * k;
-              let mask = 0;
-              for (let q = 0; q < 8; q++) {
-                const di = q & 1, dj = (q >> 1) & 1, dk = (q >> 2) & 1;
-                const s = sAt(base + di + nx * dj + nxy * dk, i + di, j + dj, k + dk);
-                v[q] = s;
-                if (s < 0) mask |= 1 << q;
+              let mask = raw;
+              if (touches) {
+                // Blocks on the grid's outer layer: apply the outside-the-bounds rule per corner.
+                mask = 0;
+                for (let q = 0; q < 8; q++) {
+                  const di = q & 1, dj = (q >> 1) & 1, dk = (q >> 2) & 1;
+                  const s = sAt(base + di + nx * dj + nxy * dk, i + di, j + dj, k + dk);
+                  v[q] = s;
+                  if (s < 0) mask |= 1 << q;
+                }
+                if (mask === 0 || mask === 255) continue;
+              } else {
+                for (let q = 0; q < 8; q++) {
+                  const x = values[base + CORNER_OFFSET_X[q] + nx * CORNER_OFFSET_Y[q] + nxy * CORNER_OFFSET_Z[q]];
+                  v[q] = sdf ? x - level : level - x;
+                }
               }
-              if (mask === 0 || mask === 255) continue;
               surfaceCells++;
               const faceBits = cellFaceBits(v);
               for (const loop of cellLoops(mask, faceBits)) {
@@ -170,6 +179,9 @@ export function marchingCubesGrid(values: Float32Array, dims: [number, number, n
   return { mesh: out.toMesh(), surfaceCells, activeBlocks, totalBlocks: bx * by * bz };
 }
 
+const CORNER_OFFSET_X = Int8Array.from({ length: 8 }, (_, q) => q & 1);
+const CORNER_OFFSET_Y = Int8Array.from({ length: 8 }, (_, q) => (q >> 1) & 1);
+const CORNER_OFFSET_Z = Int8Array.from({ length: 8 }, (_, q) => (q >> 2) & 1);
 const EDGE_C0 = Int8Array.from(EDGE_CORNERS, (c) => c[0]);
 const EDGE_C1 = Int8Array.from(EDGE_CORNERS, (c) => c[1]);
 

@@ -60,6 +60,25 @@ export class MeshBuilder {
       this.addTriangle(ids[0], ids[1], ids[2]);
       return;
     }
+    if (n === 4) {
+      // Two ways to split a quad: diagonal 0–2 or 1–3. Keep the one off the cell faces whose smaller
+      // triangle is larger (the same choice the general fan search below makes).
+      const ok02 = (EDGE_FACES[edges[0]] & EDGE_FACES[edges[2]]) === 0;
+      const ok13 = (EDGE_FACES[edges[1]] & EDGE_FACES[edges[3]]) === 0;
+      if (ok02 || ok13) {
+        const a = ids[0], b = ids[1], c = ids[2], d = ids[3];
+        const s02 = ok02 ? Math.min(this.area2sq(a, b, c), this.area2sq(a, c, d)) : -1;
+        const s13 = ok13 ? Math.min(this.area2sq(b, c, d), this.area2sq(b, d, a)) : -1;
+        if (s02 >= s13) {
+          this.addTriangle(a, b, c);
+          this.addTriangle(a, c, d);
+        } else {
+          this.addTriangle(b, c, d);
+          this.addTriangle(b, d, a);
+        }
+        return;
+      }
+    }
     let best = -1;
     let bestScore = -1;
     for (let s = 0; s < n; s++) {

@@ -1,0 +1,62 @@
+/**
+ * The dense-grid driver must give the same mesh as the octree path on the same lattice (same
+ * triangulation rules), and skip the blocks that do not straddle the level.
+ */
+import { describe, expect, test } from 'vitest';
+import { marchingCubesGrid } from '../../../core/meshing/marching-cubes-grid.js';
+import { marchingCubes } from '../../../core/meshing/marching-cubes.js';
+import { sampleDense } from '../../../core/sampling/sample-dense.js';
+import { latticeNodePoints, makeLattice } from '../../../core/sampling/lattice.js';
+import { analyzeMesh } from '../../../core/checks/analyze-mesh.js';
+import { fnField, sphereSdf, torusSdf } from '../../helpers/analytic-fields.js';
+import { expectClosedManifold, rng } from '../../helpers/expect-mesh.js';
+import type { Bounds } from '../../../core/types.js';
+
+async function both(fn: (x: number, y: number, z: number) => number, bounds: Bounds, depth: number) {
+  const field = fnField(fn, bounds, { lipschitz: 1e9 });
+  const lat = makeLattice(bounds, depth);
+  const values = await field.evaluate(latticeNodePoints(lat));
+  const [nx, ny, nz] = lat.cells;
+  const grid = marchingCubesGrid(values, [nx + 1, ny + 1, nz + 1], { kind: 'sdf', level: 0, origin: lat.origin, spacing: [lat.cellSize, lat.cellSize, lat.cellSize], blockSize: 4 });
+  const sparse = marchingCubes(await sampleDense(field, { depth }));
+  return { grid, sparse };
+}
+
+function sortedTriangles(m: { positions: Float32Array; indices: Uint32Array }): string[] {
+  const out: string[] = [];
+  for (let t = 0; t < m.indices.length; t += 3) {
+    const vs = [0, 1, 2].map((e) => Array.from(m.positions.subarray(3 * m.indices[t + e], 3 * m.indices[t + e] + 3)).join(','));
+    const r = vs.indexOf([...vs].sort()[0]); // rotate so the smallest vertex leads; keeps the winding
+    out.push([vs[r], vs[(r + 1) % 3], vs[(r + 2) % 3]].join(' '));
+  }
+  return out.sort();
+}
+
+describe('marching cubes on a dense grid', () => {
+  test('torus: the same triangles (positions and winding) as the octree path on the same lattice', async () => {
+    const { grid, sparse } = await both(torusSdf(0.6, 0.2), [-1, -0.4, -1, 1, 0.4, 1], 5);
+    expectClosedManifold(grid.mesh, 'grid torus');
+    expect(sortedTriangles(grid.mesh)).toEqual(sortedTriangles(sparse));
+    expect(grid.activeBlocks).toBeLessThan(grid.totalBlocks);
+  });
+
+  test('random noise with ambiguous faces and a surface cut by the bounds: same triangles as the octree path', async () => {
+    for (let seed = 1; seed <= 20; seed++) {
+      const r = rng(seed);
+      const n = 9;
+      const vals = Float32Array.from({ length: (n + 1) ** 3 }, () => r() - 0.45);
+      const at = (x: number, y: number, z: number) => vals[Math.round((x + 0.5) * n) + (n + 1) * (Math.round((y + 0.5) * n) + (n + 1) * Math.round((z + 0.5) * n))];
+      // The noise is read at the nearest of its 10³ points from each node of our depth-3 lattice.
+      const { grid, sparse } = await both(at, [-0.5, -0.5, -0.5, 0.5, 0.5, 0.5], 3);
+      expect(sortedTriangles(grid.mesh), `seed ${seed}`).toEqual(sortedTriangles(sparse));
+    }
+  });
+
+  test('a sphere grid: closed, χ = 2, and only blocks near the surface are touched', async () => {
+    const { grid } = await both(sphereSdf(0.3), [-1, -1, -1, 1, 1, 1], 6);
+    const r = expectClosedManifold(grid.mesh, 'grid sphere');
+    expect(r.eulerCharacteristic).toBe(2);
+    expect(grid.activeBlocks / grid.totalBlocks).toBeLessThan(0.25);
+    expect(analyzeMesh(grid.mesh).components).toBe(1);
+  });
+});
