@@ -93,3 +93,30 @@ describe('a failing field worker', () => {
     });
   }
 });
+
+describe('an output folder that cannot be written', () => {
+  /** Makes `path` read-only: chmod for a normal user; for root (who ignores modes) the immutable flag. Returns an undo, or null. */
+  function makeReadOnly(path: string): (() => void) | null {
+    if (process.getuid?.() !== 0) {
+      spawnSync('chmod', ['555', path]);
+      return () => spawnSync('chmod', ['755', path]);
+    }
+    const r = spawnSync('chattr', ['+i', path]);
+    return r.status === 0 ? () => spawnSync('chattr', ['-i', path]) : null;
+  }
+
+  test('is refused before any work, with the folder named, and nothing is written', (ctx) => {
+    const ro = join(dir, 'read-only');
+    mkdirSync(ro);
+    const undo = makeReadOnly(ro);
+    if (!undo) ctx.skip(); // neither chmod nor chattr can make a folder read-only here
+    try {
+      const r = runCli(['bake', DEMO, '--out', join(ro, 'x.glb'), '--depth', '4', '--quiet']);
+      expect(r.code).toBe(1);
+      expect(r.stderr).toMatch(/output folder is not writable: .*read-only/);
+    } finally {
+      undo!();
+    }
+    expect(existsSync(join(ro, 'x.glb'))).toBe(false);
+  });
+});
