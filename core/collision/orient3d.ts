@@ -44,7 +44,8 @@ export function orient3d(p: ArrayLike<number>, a: number, b: number, c: number, 
     (Math.abs(adxbdy) + Math.abs(bdxady)) * Math.abs(cdz);
   if (det > ERRBOUND * permanent) return -1;
   if (-det > ERRBOUND * permanent) return 1;
-  return -exactSign(p, a, b, c, d);
+  const exact = exactSign(p, a, b, c, d);
+  return exact === 0 ? 0 : -exact;
 }
 
 /** Sign of det[a − d; b − d; c − d] in exact integer arithmetic. */

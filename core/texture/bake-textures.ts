@@ -10,8 +10,7 @@
  *    area-weighted normal of the low-poly mesh, computed before the split at UV seams so it is
  *    continuous across them. Not the exported vertex normals: those are the field's gradient at
  *    each vertex, and a vertex on the wall of a groove the decimation removed has its normal
- *    tilted far from the low-poly surface's, which bent the rays and drew 1 cm grooves wavy (the
- *    rendering test's ratio went from 2.4 to the figure in its artifacts with this change).
+ *    tilted far from the low-poly surface's, which bent the rays and drew 1 cm grooves wavy.
  * 3. That point moved onto the field's surface along that direction (`project-to-surface.ts`:
  *    Newton steps for an SDF, a short bracketing search for density and occupancy), within
  *    `searchDistance`.
@@ -27,10 +26,23 @@
  * 5. Empty texels are filled outward from the baked ones (`dilate-texels.ts`) so mipmaps do not
  *    bleed background into charts; both images are encoded as PNG (`encode-png.ts`).
  *
+ * Notes from trying, on the rendering test (`test/core/texture/bake-textures.render.test.ts`: grooved
+ * column, 2 000 triangles, six views; the figure is how many times smaller the baked mesh's mean
+ * pixel difference to the full mesh is than the vertex-colored mesh's):
+ * - Search direction: exported vertex normals 2.41, area-weighted low-poly normals 2.75 (both
+ *   counting silhouette pixels; the test now leaves a 2-pixel band along silhouettes out: 3.14).
+ * - Texture edge 512 / 1024 / 2048: 3.00 / 3.14 / 3.13. What remains is parallax (the grooves are
+ *   5–6 mm deep and a normal map cannot shift them with the view) and the reference's own 2 mm
+ *   cells; more texels do not help.
+ * - Charts capped at area/64 or xatlas' defaults: 3.14 / 3.10. Exporting the area-weighted normals
+ *   as NORMAL instead of the field's: 3.15; the field's stay (the untextured levels use them too).
+ *
  * Every field query is batched: texels go through steps 3–4 in batches of `batchTexels`, each
  * Newton step, the search, the gradient (6 points per texel) and the color being one call each.
  * Per texel that is about 3–6 points for an SDF's projection (9 + ~4 for the search), 6 for the
- * normal and 1 for the color.
+ * normal and 1 for the color. Measured (2-core machine, whole texture stage): grooved column
+ * recipe, 2 000 triangles, 1024²: 4.4 s, 545 842 texels, 5.6 M points (10 per texel); 2048²: 11.0 s,
+ * 19.9 M points; the shared sphere fixture (ONNX), 1024²: 10.1 s, 5.1 M points.
  */
 import type { Field } from '../fields/field.js';
 import type { MeshData } from '../types.js';
@@ -76,10 +88,11 @@ export const TEXTURE_DEFAULTS = {
   minSize: 64,
   maxSize: 4096,
   /**
-   * Most triangles the UV layout takes: xatlas runs synchronously, about 4.3 s for 50 000 triangles
-   * on our 2-core machine (see `unwrap-mesh.ts`), so 100 000 keeps it to seconds. Larger meshes need a budget.
+   * Most triangles the UV layout takes. xatlas runs synchronously (it blocks the thread it runs on):
+   * about 5 s for 50 000 triangles on our 2-core machine (see `unwrap-mesh.ts`), and the whole texture
+   * stage took 20 s at 100 000. Texture budgets for game props sit well below this; larger meshes need --budget.
    */
-  maxTriangles: 100_000,
+  maxTriangles: 50_000,
   batchTexels: 65_536,
   /** Gradient step in sampling cells: the same as the vertex normals' (FIELD_GRADIENT_NORMALS_DEFAULTS.stepCells). */
   normalStepCells: 0.5,

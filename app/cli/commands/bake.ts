@@ -4,10 +4,13 @@ import { freemem } from 'node:os';
 import { readFileSync, statSync } from 'node:fs';
 import { basename, extname, resolve } from 'node:path';
 import { parseArgs } from 'node:util';
+import { deflateSync } from 'node:zlib';
 import { bakeField, BAKE_DEFAULTS, MESHING_METHODS, NORMALS_METHODS } from '../../../core/pipeline/bake-field.js';
 import { EXPORT_FORMATS, formatFromExtension } from '../../../core/export/export-mesh.js';
 import { SMALL_PART_WARNING_FRACTION } from '../../../core/cleanup/remove-small-parts.js';
 import { SAMPLE_OCTREE_DEFAULTS } from '../../../core/sampling/sample-octree.js';
+import { TEXTURE_DEFAULTS } from '../../../core/texture/bake-textures.js';
+import type { UvAtlasModule } from '../../../core/texture/unwrap-mesh.js';
 import { openField } from '../../fields/open-field.js';
 import { estimateCost, deepestFitting } from '../../../core/sampling/estimate-cost.js';
 import { probeField } from '../../../core/sampling/probe-field.js';
@@ -40,6 +43,12 @@ Turns a field (.onnx neural field, .npy grid with .json sidecar, .json recipe) i
   --normals <field|mesh>  vertex normals from the field's gradient or area-weighted from the mesh (default ${BAKE_DEFAULTS.normals})
   --quantize              glTF/GLB: store attributes as integers (KHR_mesh_quantization; smaller files)
   --meshopt               glTF/GLB: compress with EXT_meshopt_compression (implies --quantize; smallest files)
+  --texture <size>        glTF/GLB: bake a base-color texture and a tangent-space normal map of size × size texels
+                          (a power of two, ${TEXTURE_DEFAULTS.minSize}..${TEXTURE_DEFAULTS.maxSize}) from the field onto the base level, with a UV
+                          layout (TEXCOORD_0) and tangents (TANGENT); needs a mesh of at most ${TEXTURE_DEFAULTS.maxTriangles} triangles
+                          (use --budget); LODs keep vertex colors
+  --collision             glTF/GLB: add the convex hull of the base level as node <name>_collision, alone in
+                          scene 'collision' (not drawn with the default scene)
   --report <file.json>    also write the report as JSON
   --overwrite             replace existing output files
   --force                 run even when the memory estimate exceeds the free memory
@@ -70,6 +79,8 @@ export async function runBake(argv: string[]): Promise<number> {
       format: { type: 'string' },
       quantize: { type: 'boolean', default: false },
       meshopt: { type: 'boolean', default: false },
+      texture: { type: 'string' },
+      collision: { type: 'boolean', default: false },
       report: { type: 'string' },
       overwrite: { type: 'boolean', default: false },
       force: { type: 'boolean', default: false },
@@ -99,6 +110,8 @@ export async function runBake(argv: string[]): Promise<number> {
   const budget = parseIntegerOption('budget', values.budget, 4, 2 ** 31);
   const lods = parseIntegerOption('lods', values.lods, 0, 16);
   const normals = parseChoice('normals', values.normals, NORMALS_METHODS);
+  const texture = parseIntegerOption('texture', values.texture, TEXTURE_DEFAULTS.minSize, TEXTURE_DEFAULTS.maxSize);
+  if (texture !== undefined && (texture & (texture - 1)) !== 0) throw new UsageError(`--texture wants a power of two such as 512, 1024 or 2048 (got '${values.texture}')`);
   const overwrite = values.overwrite ?? false;
   const outPath = resolve(values.out);
   const reportPath = values.report ? resolve(values.report) : undefined;
@@ -117,6 +130,10 @@ export async function runBake(argv: string[]): Promise<number> {
     const bytes = readFileSync(input);
     const sha256 = createHash('sha256').update(bytes).digest('hex');
     const result = await bakeField(field, {
+      texture,
+      unwrapper: texture ? await loadUnwrapper() : undefined,
+      deflate: (b) => deflateSync(b),
+      collision: values.collision,
       depth,
       level,
       bounds,
@@ -153,6 +170,13 @@ export async function runBake(argv: string[]): Promise<number> {
       const levels = [`base ${report.decimation.triangles} (max error ${mm(report.decimation.maxError)})`, ...report.lods.map((l) => `LOD${l.level} ${l.triangles} (${mm(l.maxError)})`)];
       process.stdout.write(`  triangles: ${levels.join(', ')}\n`);
     }
+    if (report.texture) {
+      const x = report.texture;
+      process.stdout.write(
+        `  texture: ${x.size}×${x.size}, ${x.charts} charts, ${(100 * x.coverage).toFixed(1)}% of texels covered, stretch ${x.stretch}, ${x.bakeSeconds} s\n`,
+      );
+    }
+    if (report.collision) process.stdout.write(`  collision: ${report.collision.node}, ${report.collision.triangles} triangles, ${report.collision.vertices} vertices\n`);
     return 0;
   } finally {
     progress.done();
@@ -194,6 +218,13 @@ async function guardResources(
 
 const gib = (b: number) => `${(b / 2 ** 30).toFixed(b < 2 ** 30 ? 2 : 1)} GiB`;
 const sig = (v: number) => Number(v.toPrecision(3)).toString();
+
+/** watlas (xatlas in WebAssembly), loaded only when textures are asked for; its .wasm loads from node_modules. */
+async function loadUnwrapper(): Promise<UvAtlasModule> {
+  const watlas = await import('watlas');
+  await watlas.Initialize();
+  return watlas;
+}
 
 /** The output format: --out's extension, or --format; they must agree when both are given. */
 function outputFormat(out: string, flag: string | undefined) {
