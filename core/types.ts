@@ -1,4 +1,3 @@
-// TEAM NOTE (temporary, the lead removes it): several engineers edit this tree at once. Read /tmp/rules.md and follow it: no git commands, no npm install, touch only your assigned files.
 /**
  * Shared value types of Fieldkiln's core. Core is platform-free: nothing here touches files,
  * processes or the console; everything from the outside world arrives as an argument.

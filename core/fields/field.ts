@@ -1,4 +1,3 @@
-// TEAM NOTE (temporary, the lead removes it): several engineers edit this tree at once. Read /tmp/rules.md and follow it: no git commands, no npm install, touch only your assigned files.
 import type { Bounds, FieldKind } from '../types.js';
 
 /**

@@ -1,7 +1,7 @@
 /**
  * Per-vertex tangents for tangent-space normal maps, computed the way MikkTSpace does: Mikkelsen
  * 2008, "Simulation of wrinkled surfaces revisited" (MSc thesis, University of Copenhagen), whose
- * reference implementation `mikktspace.c` (Mikkelsen 2011) is what Blender, Unity, Unreal and the
+ * reference implementation `mikktspace.c` (Mikkelsen 2011) is what common engines and the
  * glTF 2.0 spec ("When tangents are not specified, client implementations SHOULD calculate tangents
  * using default MikkTSpace algorithms") rely on. Matching it means an engine that recomputes
  * tangents itself gets the same frame the normal map was baked in.
