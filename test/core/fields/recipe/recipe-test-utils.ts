@@ -23,14 +23,5 @@ export function colorsAt(root: unknown, points: number[][], extra: Record<string
   return points.map((_, i) => [out[3 * i], out[3 * i + 1], out[3 * i + 2]]);
 }
 
-/** mulberry32: a small seeded PRNG (public-domain algorithm by Tommy Ettinger), uniform in [0, 1). */
-export function seededRandom(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+/** mulberry32: a small seeded PRNG, uniform in [0, 1) (shared with the other tests). */
+export { rng as seededRandom } from '../../../helpers/expect-mesh.js';
