@@ -9,9 +9,11 @@ import { createHash } from 'node:crypto';
 import { readFile, stat } from 'node:fs/promises';
 import { createRequire } from 'node:module';
 import { parentPort, workerData } from 'node:worker_threads';
+import { deflateSync } from 'node:zlib';
 import type { Field } from '../../core/fields/field.js';
 import * as bakeModule from '../../core/pipeline/bake-field.js';
 import { bakeField, BAKE_DEFAULTS, MESHING_METHODS, type BakeOptions, type BakeReport } from '../../core/pipeline/bake-field.js';
+import type { BakeTexturesResult } from '../../core/texture/bake-textures.js';
 import { EXPORT_FORMATS as CORE_EXPORT_FORMATS, exportMesh, isGltfFormat } from '../../core/export/export-mesh.js';
 import { probeField } from '../../core/sampling/probe-field.js';
 import { SAMPLE_OCTREE_DEFAULTS } from '../../core/sampling/sample-octree.js';
@@ -20,6 +22,7 @@ import type { WriteGlbOptions } from '../../core/export/write-glb.js';
 import { CancelledError, FieldkilnError, type Bounds, type MeshData } from '../../core/types.js';
 import { openField } from '../fields/open-field.js';
 import { writeFileAtomic } from '../node/atomic-write.js';
+import { loadUnwrapper } from '../node/load-unwrapper.js';
 import { BAKE_SETTING_KEYS, EXPORT_FORMATS, type BakeRequest, type BakeResult, type BakeSettings, type ExportRequest, type ExportResult, type MeshPayload, type ValidatorVerdict, type Verdict } from '../shared/ipc.js';
 import { chooseLevelRange } from './choose-level-range.js';
 import type { FieldFacts, WorkerReply, WorkerRequest, WorkerStartData } from './worker-messages.js';
@@ -81,12 +84,25 @@ interface OpenState {
   bytes: number;
 }
 
+/** Texture maps and collision hull a bake made (export only, glTF/GLB). */
+interface ExportExtras {
+  /** Texture edge, texels; 0 = none. */
+  texture: number;
+  collision: boolean;
+}
+
+const NO_EXTRAS: ExportExtras = { texture: 0, collision: false };
+
 interface FullState {
   key: string;
+  /** The texture and hull this bake made (`extrasKey` of them). */
+  extrasKey: string;
   settings: BakeSettings;
   mesh: MeshData;
   lods: MeshData[];
   report: BakeReport;
+  textures?: BakeTexturesResult;
+  collision?: MeshData;
 }
 
 const port = parentPort;
@@ -163,7 +179,7 @@ if (port) {
   };
 
   /** Runs bakeField for job `id`, polling the shared cancel flag. */
-  const runBake = async (id: number, settings: BakeSettings, depth: number, job: 'preview' | 'full' | 'export') => {
+  const runBake = async (id: number, settings: BakeSettings, depth: number, job: 'preview' | 'full' | 'export', extras: ExportExtras = NO_EXTRAS) => {
     if (!open) throw new FieldkilnError('no field is open; open a field first');
     const controller = new AbortController();
     const poll = () => {
@@ -212,6 +228,13 @@ if (port) {
     if (support.lods && settings.lods > 0) options.lods = settings.lods;
     if (support.minPart && settings.minPart > 0) options.minPart = settings.minPart;
     if (normalsMethods().includes(settings.normals)) options.normals = settings.normals;
+    // Texture maps and the hull, as the CLI's bake passes them (app/cli/commands/bake.ts).
+    if (extras.texture > 0) {
+      options.texture = extras.texture;
+      options.unwrapper = await loadUnwrapper();
+      options.deflate = (b) => deflateSync(b);
+    }
+    if (extras.collision) options.collision = true;
     const result = await bakeField(field, options);
     if (isCancelled(id)) throw new CancelledError();
     return result;
@@ -224,7 +247,7 @@ if (port) {
     const result = await runBake(id, settings, depth, quality);
     if (quality === 'preview' && depth === previewCap) previewCap = nextPreviewCap(previewCap, (performance.now() - t0) / 1000);
     const lods = lodsOf(result);
-    if (quality === 'full') full = { key: settingsKey(settings), settings, mesh: result.mesh, lods, report: result.report };
+    if (quality === 'full') full = { key: settingsKey(settings), extrasKey: extrasKey(NO_EXTRAS), settings, mesh: result.mesh, lods, report: result.report };
     const problemEdges =
       result.report.mesh.boundaryEdges + result.report.mesh.nonManifoldEdges > 0
         ? collectProblemEdges(result.mesh)
@@ -255,16 +278,33 @@ if (port) {
 
   const doExport = async (id: number, path: string, request: ExportRequest): Promise<Omit<ExportResult, 'path'>> => {
     if (!open) throw new FieldkilnError('no field is open; open a field first');
-    if (!full || full.key !== settingsKey(request.settings)) {
-      const result = await runBake(id, request.settings, request.settings.depth, 'export');
-      full = { key: settingsKey(request.settings), settings: request.settings, mesh: result.mesh, lods: lodsOf(result), report: result.report };
+    const gltf = isGltfFormat(request.format);
+    // Textures go on the full mesh only; both extras are glTF-only (as in core).
+    const extras: ExportExtras = {
+      texture: gltf && request.lod === 0 ? (request.texture ?? 0) : 0,
+      collision: gltf && (request.collision ?? false),
+    };
+    const wantsExtras = extras.texture > 0 || extras.collision;
+    if (!full || full.key !== settingsKey(request.settings) || (wantsExtras && full.extrasKey !== extrasKey(extras))) {
+      const result = await runBake(id, request.settings, request.settings.depth, 'export', extras);
+      full = {
+        key: settingsKey(request.settings),
+        extrasKey: extrasKey(extras),
+        settings: request.settings,
+        mesh: result.mesh,
+        lods: lodsOf(result),
+        report: result.report,
+        textures: result.textures,
+        collision: result.collision,
+      };
     }
+    const textures = extras.texture > 0 ? full.textures : undefined;
+    const hull = extras.collision ? full.collision : undefined;
     const chosen = request.lod === 0 ? full.mesh : full.lods[request.lod - 1];
     if (!chosen) throw new FieldkilnError(`there is no level of detail ${request.lod}; this bake has ${full.lods.length} lighter copies`);
     post({ type: 'progress', id, job: 'export', stage: 'export', fraction: 0 });
     const withColors = (m: MeshData): MeshData => ({ positions: m.positions, indices: m.indices, normals: m.normals, colors: request.colors ? m.colors : undefined });
     const s = full.settings;
-    const gltf = isGltfFormat(request.format);
     const writeOptions: WriteGlbOptions = {
       name: request.name,
       extras: {
@@ -283,13 +323,18 @@ if (port) {
           ...(normalsMethods().length > 0 ? { normals: s.normals } : {}),
           ...(request.lod > 0 ? { lod: request.lod } : {}),
           ...(gltf ? { quantize: request.quantize || request.meshopt, meshopt: request.meshopt } : {}),
+          ...(extras.texture > 0 ? { texture: extras.texture } : {}),
+          ...(extras.collision ? { collision: true } : {}),
         },
       },
       // glTF keeps the lighter copies as further levels (core names them _LOD<i>); other formats hold one mesh.
       ...(gltf && request.lod === 0 && full.lods.length > 0 ? { lods: full.lods.map(withColors) } : {}),
       ...(gltf ? { quantize: request.quantize || request.meshopt, meshopt: request.meshopt } : {}),
+      // The textured mesh is the full mesh split at the UV layout's seams.
+      ...(textures ? { textures: { uvs: textures.uvs, tangents: textures.tangents, baseColorPng: textures.baseColorPng, normalPng: textures.normalPng } } : {}),
+      ...(hull ? { collision: hull } : {}),
     };
-    const fileBytes = await exportMesh(request.format, withColors(chosen), writeOptions);
+    const fileBytes = await exportMesh(request.format, withColors(textures?.mesh ?? chosen), writeOptions);
     if (isCancelled(id)) throw new CancelledError();
     writeFileAtomic(path, fileBytes);
     const bytes = (await stat(path)).size;
@@ -302,8 +347,19 @@ if (port) {
         throw e;
       });
     }
-    return { bytes, format: request.format, validator };
+    return {
+      bytes,
+      format: request.format,
+      validator,
+      texture: textures ? { size: textures.report.size, coverage: textures.report.coverage } : null,
+      collision: hull ? { triangles: hull.indices.length / 3 } : null,
+    };
   };
+}
+
+/** The key of a bake's export extras. */
+function extrasKey(e: ExportExtras): string {
+  return `${e.texture}/${e.collision}`;
 }
 
 /** The key of a bake's settings: two settings give the same mesh when their keys are equal. */

@@ -50,6 +50,8 @@ const STAGE_WORDS: Record<string, string> = {
   decimate: 'Reducing triangles',
   bake: 'Painting colors',
   color: 'Painting colors',
+  texture: 'Baking texture maps',
+  collision: 'Building the collision hull',
   check: 'Checking the surface',
   export: 'Writing the file',
   validate: 'Validating the glTF',

@@ -71,6 +71,8 @@ const el = {
   gltfOptions: $('gltf-options'),
   exportQuantize: $<HTMLInputElement>('export-quantize'),
   exportMeshopt: $<HTMLInputElement>('export-meshopt'),
+  exportTexture: $<HTMLSelectElement>('export-texture'),
+  exportCollision: $<HTMLInputElement>('export-collision'),
   stepShape: $('step-shape'),
   budget: $<HTMLInputElement>('budget'),
   budgetNum: $<HTMLInputElement>('budget-num'),
@@ -605,6 +607,8 @@ async function exportMesh(): Promise<void> {
       meshopt: gltf && el.exportMeshopt.checked,
       name: name.slice(0, 64),
       lod: lodIndex,
+      texture: gltf && el.exportTexture.value !== '' ? Number(el.exportTexture.value) : null,
+      collision: gltf && el.exportCollision.checked,
     });
   } catch (e) {
     reply = { ok: false, error: e instanceof Error ? e.message : String(e) };
@@ -638,6 +642,16 @@ function showExport(r: ExportResult): void {
     ? `✓ glTF validator: valid (${v.warnings} warnings, ${v.infos} notes)`
     : `✗ glTF validator: ${v.errors} errors, ${v.warnings} warnings`;
   const parts: HTMLElement[] = [saved, verdict];
+  if (r.texture || r.collision) {
+    const extras = document.createElement('div');
+    extras.textContent = [
+      r.texture ? `Texture maps ${r.texture.size} × ${r.texture.size} · ${(100 * r.texture.coverage).toFixed(1)}% of texels used` : '',
+      r.collision ? `Collision hull ${formatCount(r.collision.triangles)} triangles` : '',
+    ]
+      .filter((t) => t !== '')
+      .join(' · ');
+    parts.push(extras);
+  }
   if (v.messages.length > 0) {
     const ul = document.createElement('ul');
     for (const m of v.messages) {

@@ -63,6 +63,9 @@ export const LIMITS = {
   maxAbsCoordinate: 1e6,
   /** Largest Lipschitz bound, metres per metre. */
   maxLipschitz: 1e6,
+  /** Texture edge range, texels (a power of two): core's TEXTURE_DEFAULTS.minSize..maxSize. */
+  minTextureSize: 64,
+  maxTextureSize: 4096,
 } as const;
 
 // ---------------------------------------------------------------------------------------------
@@ -134,7 +137,18 @@ export interface ExportRequest {
    * when the bake made any; k > 0 = lighter copy k alone.
    */
   lod: number;
+  /**
+   * glTF/GLB, full mesh (lod 0) only: edge of the base-color and normal textures baked from the
+   * field, texels (a power of two from {@link LIMITS}.minTextureSize to .maxTextureSize), with a UV
+   * layout and tangents; null or absent = no textures (the CLI's --texture).
+   */
+  texture?: number | null;
+  /** glTF/GLB: add the convex hull of the full mesh as node `<name>_collision` (the CLI's --collision). Absent = false. */
+  collision?: boolean;
 }
+
+/** The keys an {@link ExportRequest} may leave out (older windows and scripts send none of them). */
+export const EXPORT_OPTIONAL_KEYS = ['texture', 'collision'] as const;
 
 // ---------------------------------------------------------------------------------------------
 // Replies. Handlers never throw across IPC: they answer with a Reply.
@@ -239,6 +253,10 @@ export interface ExportResult {
   format: ExportFormat;
   /** gltf-validator's verdict on glTF and GLB files; null for other formats. */
   validator: ValidatorVerdict | null;
+  /** The textures written: edge in texels, and the share (0..1) of texels the UV layout covers; null without textures. */
+  texture: { size: number; coverage: number } | null;
+  /** The collision hull written: its triangle count; null without one. */
+  collision: { triangles: number } | null;
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -299,7 +317,8 @@ export function validateBakeRequest(p: unknown): string | null {
 
 /** {@link ExportRequest}. */
 export function validateExportRequest(p: unknown): string | null {
-  const k = keysProblem(p, ['settings', 'format', 'colors', 'quantize', 'meshopt', 'name', 'lod']);
+  const optional = typeof p === 'object' && p !== null ? EXPORT_OPTIONAL_KEYS.filter((key) => Object.prototype.hasOwnProperty.call(p, key)) : [];
+  const k = keysProblem(p, ['settings', 'format', 'colors', 'quantize', 'meshopt', 'name', 'lod', ...optional]);
   if (k) return k;
   const r = p as Record<string, unknown>;
   const sk = keysProblem(r.settings, BAKE_SETTING_KEYS, 'settings');
@@ -313,7 +332,16 @@ export function validateExportRequest(p: unknown): string | null {
   const n = textProblem(r.name, 'name', LIMITS.maxNameLength);
   if (n) return n;
   if ((r.name as string).trim() === '') return 'name must not be empty';
-  return integerProblem(r.lod, 'lod', 0, LIMITS.maxLods);
+  const lod = integerProblem(r.lod, 'lod', 0, LIMITS.maxLods);
+  if (lod) return lod;
+  if ('texture' in r && r.texture !== null) {
+    const t = r.texture;
+    if (typeof t !== 'number' || !Number.isInteger(t) || t < LIMITS.minTextureSize || t > LIMITS.maxTextureSize || (t & (t - 1)) !== 0) {
+      return `texture must be null or a power of two from ${LIMITS.minTextureSize} to ${LIMITS.maxTextureSize} texels, such as 512 or 1024`;
+    }
+  }
+  if ('collision' in r && typeof r.collision !== 'boolean') return 'collision must be true or false';
+  return null;
 }
 
 function settingsProblem(r: Record<string, unknown>): string | null {

@@ -10,13 +10,13 @@ import { EXPORT_FORMATS, formatFromExtension } from '../../../core/export/export
 import { SMALL_PART_WARNING_FRACTION } from '../../../core/cleanup/remove-small-parts.js';
 import { SAMPLE_OCTREE_DEFAULTS } from '../../../core/sampling/sample-octree.js';
 import { TEXTURE_DEFAULTS } from '../../../core/texture/bake-textures.js';
-import type { UvAtlasModule } from '../../../core/texture/unwrap-mesh.js';
 import { openField } from '../../fields/open-field.js';
 import { estimateCost, deepestFitting } from '../../../core/sampling/estimate-cost.js';
 import { probeField } from '../../../core/sampling/probe-field.js';
 import type { Field } from '../../../core/fields/field.js';
 import { FieldkilnError, type Bounds } from '../../../core/types.js';
 import { checkWritable, writeFileAtomic } from '../../node/atomic-write.js';
+import { loadUnwrapper } from '../../node/load-unwrapper.js';
 import { parseBoundsOption, parseChoice, parseIntegerOption, parseKindOption, parseNumberOption, UsageError } from '../args.js';
 import { makeProgress } from '../progress.js';
 
@@ -218,13 +218,6 @@ async function guardResources(
 
 const gib = (b: number) => `${(b / 2 ** 30).toFixed(b < 2 ** 30 ? 2 : 1)} GiB`;
 const sig = (v: number) => Number(v.toPrecision(3)).toString();
-
-/** watlas (xatlas in WebAssembly), loaded only when textures are asked for; its .wasm loads from node_modules. */
-async function loadUnwrapper(): Promise<UvAtlasModule> {
-  const watlas = await import('watlas');
-  await watlas.Initialize();
-  return watlas;
-}
 
 /** The output format: --out's extension, or --format; they must agree when both are given. */
 function outputFormat(out: string, flag: string | undefined) {

@@ -5,6 +5,7 @@ import { describe, expect, it } from 'vitest';
 import { SAMPLE_OCTREE_DEFAULTS } from '../../../core/sampling/sample-octree.js';
 import { MESHING_METHODS } from '../../../core/pipeline/bake-field.js';
 import { EXPORT_FORMATS as CORE_EXPORT_FORMATS } from '../../../core/export/export-mesh.js';
+import { TEXTURE_DEFAULTS } from '../../../core/texture/bake-textures.js';
 import {
   CHANNELS,
   EVENTS,
@@ -51,6 +52,10 @@ describe('limits', () => {
   it("match core's depth range", () => {
     expect(LIMITS.minDepth).toBe(SAMPLE_OCTREE_DEFAULTS.minDepth);
     expect(LIMITS.maxDepth).toBe(SAMPLE_OCTREE_DEFAULTS.maxDepth);
+  });
+  it("match core's texture size range", () => {
+    expect(LIMITS.minTextureSize).toBe(TEXTURE_DEFAULTS.minSize);
+    expect(LIMITS.maxTextureSize).toBe(TEXTURE_DEFAULTS.maxSize);
   });
   it("offer exactly core's export formats", () => {
     expect([...EXPORT_FORMATS]).toEqual([...CORE_EXPORT_FORMATS]);
@@ -105,6 +110,28 @@ describe('validators', () => {
     expect(validateExportRequest({ ...goodExport, colors: 1 })).toBe('colors must be true or false');
     expect(validateExportRequest({ ...goodExport, settings: { ...goodExport.settings, depth: 0 } })).toBe('settings: depth must be a whole number from 1 to 12');
     expect(validateExportRequest({ ...goodExport, settings: null })).toBe('settings must be an object');
+  });
+
+  it('accept texture sizes that are powers of two in range, or null, and a collision flag', () => {
+    // Powers of two from 64 to 4096: core's TEXTURE_DEFAULTS range (core/texture/bake-textures.ts).
+    for (const texture of [null, 64, 128, 512, 1024, 2048, 4096]) {
+      for (const collision of [false, true]) expect(validateExportRequest({ ...goodExport, texture, collision })).toBeNull();
+    }
+    // Either may be left out (windows and scripts that predate them send neither).
+    expect(validateExportRequest({ ...goodExport, texture: 512 })).toBeNull();
+    expect(validateExportRequest({ ...goodExport, collision: true })).toBeNull();
+  });
+
+  it('refuse texture sizes and collision flags that are not', () => {
+    const sizeWords = 'texture must be null or a power of two from 64 to 4096 texels, such as 512 or 1024';
+    // 32 and 8192 lie outside the range; 1000, 768 and 3 are not powers of two; 512.5 is not whole.
+    for (const texture of [0, 32, 8192, 1000, 768, 3, 512.5, -512, NaN, Infinity, '512', true, undefined, [512], { size: 512 }]) {
+      expect(validateExportRequest({ ...goodExport, texture }), String(texture)).toBe(sizeWords);
+    }
+    for (const collision of [1, 0, 'true', null, undefined, {}]) {
+      expect(validateExportRequest({ ...goodExport, texture: null, collision }), String(collision)).toBe('collision must be true or false');
+    }
+    expect(validateExportRequest({ ...goodExport, textures: 512 })).toBe("payload has an unexpected key 'textures'");
   });
 
   it('refuse a __proto__ key smuggled in through JSON', () => {
