@@ -6,7 +6,6 @@
  */
 import path from 'node:path';
 import { readFileSync } from 'node:fs';
-import { fileURLToPath } from 'node:url';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { dualContour, DUAL_CONTOUR_DEFAULTS } from '../../../core/meshing/dual-contouring.js';
 import { marchingCubes } from '../../../core/meshing/marching-cubes.js';
@@ -18,24 +17,18 @@ import type { Field } from '../../../core/fields/field.js';
 import type { Bounds, MeshData } from '../../../core/types.js';
 import { openField } from '../../../app/fields/open-field.js';
 import { boxSdf, fnField, sphereSdf, torusSdf } from '../../helpers/analytic-fields.js';
+import { expectClosedManifold as expectClosedManifoldShared } from '../../helpers/expect-mesh.js';
+import { FIXTURES } from '../../helpers/fixtures.js';
 import { angleDeg, apply, applyT, distancesToMesh, rotationMatrix, triangleNormal, vertex, type V3 } from './meshing-test-utils.js';
 
-const repoRoot = path.resolve(fileURLToPath(new URL('../../../', import.meta.url)));
-const fixtures = path.resolve(repoRoot, '../shared/fixtures');
+const fixtures = FIXTURES;
 const CUBE: Bounds = [-0.5, -0.5, -0.5, 0.5, 0.5, 0.5];
 
 const recipe = (root: unknown, bounds: Bounds = CUBE) => JSON.stringify({ format: 'fieldkiln-recipe', version: 1, bounds, root });
 
 /** Closed, edge- and vertex-manifold, consistently wound outward, no degenerate or duplicate triangles. */
 function expectClosedManifold(mesh: MeshData) {
-  const r = analyzeMesh(mesh);
-  expect(r.watertight).toBe(true);
-  expect(r.boundaryEdges).toBe(0);
-  expect(r.nonManifoldEdges).toBe(0);
-  expect(r.nonManifoldVertices).toBe(0);
-  expect(r.inconsistentEdges).toBe(0);
-  expect(r.degenerateTriangles).toBe(0);
-  expect(r.volume).toBeGreaterThan(0);
+  const r = expectClosedManifoldShared(mesh, 'dual contouring');
   const seen = new Set<string>();
   for (let t = 0; t < mesh.indices.length; t += 3) {
     const key = [mesh.indices[t], mesh.indices[t + 1], mesh.indices[t + 2]].sort((a, b) => a - b).join();
