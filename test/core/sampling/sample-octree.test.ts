@@ -76,3 +76,41 @@ describe('octree sampling on analytic fields', () => {
     expect(cells.count).toBeGreaterThan(0);
   });
 });
+
+describe('octree sampling: cost and uneven bounds', () => {
+  /** Distinct corners of the surface cells: what any method that contours these cells must evaluate. */
+  function surfaceCorners(c: Awaited<ReturnType<typeof sampleOctree>>): number {
+    const [nx, ny] = c.lattice.cells;
+    const seen = new Set<number>();
+    for (let r = 0; r < c.count; r++) {
+      const i = c.coords[3 * r], j = c.coords[3 * r + 1], k = c.coords[3 * r + 2];
+      for (let q = 0; q < 8; q++) seen.add(i + (q & 1) + (nx + 1) * (j + ((q >> 1) & 1) + (ny + 1) * (k + ((q >> 2) & 1))));
+    }
+    return seen.size;
+  }
+
+  test('an exact sphere SDF at depth 8 costs under 1.6× the corners of its surface cells', async () => {
+    // |p| − r is 1-Lipschitz (a distance function), so L = 1 is exact here.
+    const field = fnField(sphereSdf(0.45), [-0.6, -0.6, -0.6, 0.6, 0.6, 0.6], { lipschitz: 1 });
+    const cells = await sampleOctree(field, { depth: 8 });
+    const least = surfaceCorners(cells);
+    console.log(`sphere depth 8: ${cells.evaluations} evaluations, ${least} surface-cell corners (${(cells.evaluations / least).toFixed(2)}×)`);
+    expect(cells.evaluations).toBeLessThan(1.6 * least);
+  });
+
+  for (const kind of ['sdf', 'density'] as const) {
+    test(`${kind} field in bounds that are not a power-of-two number of cells: the dense lattice's surface cells`, async () => {
+      // Clipped coarse cells at the lattice's far edges; the sphere pokes out of the bounds on y, so the
+      // outside-the-bounds rule caps it there too.
+      const sd = sphereSdf(0.42);
+      const b = [-0.6, -0.4, -0.5, 0.55, 0.4, 0.45] as [number, number, number, number, number, number];
+      const field = kind === 'sdf' ? fnField(sd, b) : fnField((x, y, z) => -sd(x, y, z), b, { kind: 'density', level: 0 });
+      const sparse = await sampleOctree(field, { depth: 6 });
+      const dense = await sampleDense(field, { depth: 6 });
+      expect(sparse.lattice.cells).toEqual(dense.lattice.cells);
+      expect(Array.from(sparse.coords)).toEqual(Array.from(dense.coords));
+      expect(Array.from(sparse.corners)).toEqual(Array.from(dense.corners));
+      expect(sparse.closedAtBounds).toBeGreaterThan(0);
+    });
+  }
+});
