@@ -103,22 +103,21 @@ export class IntList {
   constructor(capacity = 1024) {
     this.data = new Int32Array(Math.max(16, capacity));
   }
-  private ensure(extra: number): void {
-    if (this.length + extra <= this.data.length) return;
+  private grow(need: number): void {
     let cap = this.data.length * 2;
-    while (cap < this.length + extra) cap *= 2;
+    while (cap < need) cap *= 2;
     const next = new Int32Array(cap);
     next.set(this.data.subarray(0, this.length));
     this.data = next;
   }
   push(a: number): void {
-    this.ensure(1);
+    if (this.length === this.data.length) this.grow(this.length + 1);
     this.data[this.length++] = a;
   }
   push3(a: number, b: number, c: number): void {
-    this.ensure(3);
-    const d = this.data;
     const n = this.length;
+    if (n + 3 > this.data.length) this.grow(n + 3);
+    const d = this.data;
     d[n] = a;
     d[n + 1] = b;
     d[n + 2] = c;

@@ -36,7 +36,7 @@
 import type { Field } from '../fields/field.js';
 import type { Bounds, ProgressFn } from '../types.js';
 import { FieldkilnError, throwIfAborted } from '../types.js';
-import { IntList, KeyMap } from './key-map.js';
+import { IntList } from './key-map.js';
 import { makeLattice, denseNodeCount, type Lattice } from './lattice.js';
 import { BRICK_NODES, NODE_KNOWN, NODE_QUEUED, NODE_UNKNOWN, NodeBricks } from './node-bricks.js';
 
@@ -194,12 +194,13 @@ class NodeSampler {
       if (out.length !== m) throw new Error(`sampleOctree: field returned ${out.length} values for ${m} points`);
       let firstBad = -1;
       let bad = 0;
+      let vmin = this.vmin, vmax = this.vmax;
       for (let q = 0; q < m; q++) {
         const v = out[q];
         let s: number;
         if (Number.isFinite(v)) {
-          if (v < this.vmin) this.vmin = v;
-          if (v > this.vmax) this.vmax = v;
+          if (v < vmin) vmin = v;
+          if (v > vmax) vmax = v;
           s = sdf ? v - level : level - v;
         } else {
           if (firstBad < 0) firstBad = q;
@@ -216,6 +217,8 @@ class NodeSampler {
         }
         result[start + q] = s;
       }
+      this.vmin = vmin;
+      this.vmax = vmax;
       if (bad > 0) {
         if (opts.nonfinite === 'error') {
           throw new FieldkilnError(
@@ -266,34 +269,32 @@ export async function sampleOctree(field: Field, options: SampleOctreeOptions = 
   // Finest-level flood fill: visits each cell once, evaluates its 8 corners, keeps it when they change
   // sign, and follows every face whose corners change sign into the neighbour across it.
   const surface = new IntList(1 << 16);
-  const surfaceCorners = new IntList(1 << 18);
   const flood = async (start: IntList): Promise<void> => {
     let wave = start;
     while (wave.length > 0) {
       throwIfAborted(signal);
-      const fresh = new IntList(wave.length);
-      const corner = new IntList(wave.length * 3);
+      const fresh = new IntList(wave.length + 16);
+      const corner = new Int32Array((wave.length / 3) * 8);
       const w3 = wave.data;
-      for (let a = 0; a < wave.length; a += 3) {
+      for (let a = 0, c = 0; a < wave.length; a += 3) {
         const i = w3[a], j = w3[a + 1], k = w3[a + 2];
         const s0 = nodes.slot(i, j, k);
         if (nodes.cellSeen[s0]) continue;
         nodes.cellSeen[s0] = 1;
         fresh.push3(i, j, k);
-        for (let q = 0; q < 8; q++) corner.push(sampler.request(i + (q & 1), j + ((q >> 1) & 1), k + ((q >> 2) & 1)));
+        for (let q = 0; q < 8; q++) corner[8 * c + q] = sampler.request(i + (q & 1), j + ((q >> 1) & 1), k + ((q >> 2) & 1));
+        c++;
       }
       await sampler.flush();
-      const next = new IntList();
+      const next = new IntList(Math.max(1024, fresh.length >> 1));
       const f3 = fresh.data;
-      const cs = corner.data;
       const vals = nodes.vals;
       for (let a = 0, c = 0; a < fresh.length; a += 3, c++) {
         let mask = 0;
-        for (let q = 0; q < 8; q++) if (vals[cs[8 * c + q]] < 0) mask |= 1 << q;
+        for (let q = 0; q < 8; q++) if (vals[corner[8 * c + q]] < 0) mask |= 1 << q;
         if (mask === 0 || mask === 255) continue;
         const i = f3[a], j = f3[a + 1], k = f3[a + 2];
         surface.push3(i, j, k);
-        for (let q = 0; q < 8; q++) surfaceCorners.push(cs[8 * c + q]);
         // Faces: for axis ax and side sd, the 4 corners with bit ax == sd; follow those that change sign.
         for (let ax = 0; ax < 3; ax++) {
           for (let sd = 0; sd < 2; sd++) {
@@ -490,28 +491,25 @@ export async function sampleOctree(field: Field, options: SampleOctreeOptions = 
     await flood(active);
   }
 
-  // Deterministic order: by linear cell index.
-  const cellKey = (i: number, j: number, k: number) => i + nx * (j + ny * k);
+  // Deterministic order: by linear cell index (which also gives back the coordinates).
   const count = surface.length / 3;
   const s3 = surface.data;
   const order = new Float64Array(count);
-  const where = new KeyMap(count + 16);
-  for (let c = 0; c < count; c++) {
-    const key = cellKey(s3[3 * c], s3[3 * c + 1], s3[3 * c + 2]);
-    order[c] = key;
-    where.set(key, c);
-  }
+  for (let c = 0; c < count; c++) order[c] = s3[3 * c] + nx * (s3[3 * c + 1] + ny * s3[3 * c + 2]);
   order.sort();
   const coords = new Int32Array(count * 3);
   const corners = new Float32Array(count * 8);
-  const sc = surfaceCorners.data;
   const vals = nodes.vals;
   for (let r = 0; r < count; r++) {
-    const c = where.get(order[r]);
-    coords[3 * r] = s3[3 * c];
-    coords[3 * r + 1] = s3[3 * c + 1];
-    coords[3 * r + 2] = s3[3 * c + 2];
-    for (let q = 0; q < 8; q++) corners[8 * r + q] = vals[sc[8 * c + q]];
+    const key = order[r];
+    const i = key % nx;
+    const jk = (key - i) / nx;
+    const j = jk % ny;
+    const k = (jk - j) / ny;
+    coords[3 * r] = i;
+    coords[3 * r + 1] = j;
+    coords[3 * r + 2] = k;
+    for (let q = 0; q < 8; q++) corners[8 * r + q] = vals[nodes.find(i + (q & 1), j + ((q >> 1) & 1), k + ((q >> 2) & 1))];
   }
   progress('sample', 1);
   return {
