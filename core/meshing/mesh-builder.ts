@@ -17,6 +17,21 @@ const EDGE_FACES: readonly number[] = Array.from({ length: 12 }, (_, e) => {
   return (1 << (2 * u + (e & 1))) | (1 << (2 * v + ((e >> 1) & 1)));
 });
 
+/**
+ * Which fans may triangulate a polygon on cell edges `edges` (`n` of them): bit s is set when every
+ * diagonal from vertex s joins two edges that share no cell face. Depends on the edges only, so callers
+ * that meet the same loop often may compute it once.
+ */
+export function fanStarts(edges: ArrayLike<number>, n: number): number {
+  let starts = 0;
+  for (let s = 0; s < n; s++) {
+    let inFace = false;
+    for (let t = 2; t < n - 1; t++) if (EDGE_FACES[edges[s]] & EDGE_FACES[edges[(s + t) % n]]) inFace = true;
+    if (!inFace) starts |= 1 << s;
+  }
+  return starts;
+}
+
 export class MeshBuilder {
   pos: Float64Array;
   idx: Uint32Array;
@@ -56,35 +71,34 @@ export class MeshBuilder {
 
   /** Triangulates one polygon: vertex `ids` in order, lying on cell edges `edges` (same order). */
   addLoop(edges: readonly number[], ids: ArrayLike<number>, n: number): void {
-    if (n === 3) {
-      this.addTriangle(ids[0], ids[1], ids[2]);
-      return;
-    }
-    if (n === 4) {
+    if (n === 3) this.addTriangle(ids[0], ids[1], ids[2]);
+    else this.addFan(fanStarts(edges, n), ids, n);
+  }
+
+  /**
+   * Triangulates one polygon of `n` ≥ 4 vertices given {@link fanStarts} of its edges: the fan (or, for
+   * a quad, the diagonal) whose smallest triangle is largest among the allowed ones, else a centroid fan.
+   */
+  addFan(starts: number, ids: ArrayLike<number>, n: number): void {
+    if (n === 4 && (starts & 3) !== 0) {
       // Two ways to split a quad: diagonal 0–2 or 1–3. Keep the one off the cell faces whose smaller
       // triangle is larger (the same choice the general fan search below makes).
-      const ok02 = (EDGE_FACES[edges[0]] & EDGE_FACES[edges[2]]) === 0;
-      const ok13 = (EDGE_FACES[edges[1]] & EDGE_FACES[edges[3]]) === 0;
-      if (ok02 || ok13) {
-        const a = ids[0], b = ids[1], c = ids[2], d = ids[3];
-        const s02 = ok02 ? Math.min(this.area2sq(a, b, c), this.area2sq(a, c, d)) : -1;
-        const s13 = ok13 ? Math.min(this.area2sq(b, c, d), this.area2sq(b, d, a)) : -1;
-        if (s02 >= s13) {
-          this.addTriangle(a, b, c);
-          this.addTriangle(a, c, d);
-        } else {
-          this.addTriangle(b, c, d);
-          this.addTriangle(b, d, a);
-        }
-        return;
+      const a = ids[0], b = ids[1], c = ids[2], d = ids[3];
+      const s02 = starts & 1 ? Math.min(this.area2sq(a, b, c), this.area2sq(a, c, d)) : -1;
+      const s13 = starts & 2 ? Math.min(this.area2sq(b, c, d), this.area2sq(b, d, a)) : -1;
+      if (s02 >= s13) {
+        this.addTriangle(a, b, c);
+        this.addTriangle(a, c, d);
+      } else {
+        this.addTriangle(b, c, d);
+        this.addTriangle(b, d, a);
       }
+      return;
     }
     let best = -1;
     let bestScore = -1;
     for (let s = 0; s < n; s++) {
-      let inFace = false;
-      for (let t = 2; t < n - 1; t++) if (EDGE_FACES[edges[s]] & EDGE_FACES[edges[(s + t) % n]]) inFace = true;
-      if (inFace) continue;
+      if (((starts >> s) & 1) === 0) continue;
       let worst = Infinity;
       for (let t = 1; t < n - 1; t++) {
         const a2 = this.area2sq(ids[s], ids[(s + t) % n], ids[(s + t + 1) % n]);
@@ -118,6 +132,8 @@ export class MeshBuilder {
   }
 
   toMesh(): MeshData {
-    return { positions: Float32Array.from(this.pos.subarray(0, this.vertexCount * 3)), indices: this.idx.slice(0, this.indexCount) };
+    // `new Float32Array(float64s)` rounds exactly as `Float32Array.from` does, without the iterator
+    // (measured: 9% of the dense-grid extraction on the 256³ lattice went to the iterator form).
+    return { positions: new Float32Array(this.pos.subarray(0, this.vertexCount * 3)), indices: this.idx.slice(0, this.indexCount) };
   }
 }

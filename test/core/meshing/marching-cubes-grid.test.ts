@@ -52,6 +52,48 @@ describe('marching cubes on a dense grid', () => {
     }
   });
 
+  test('block size changes only the order: every block size gives the same triangles, closed', async () => {
+    // 11×9×13 samples of a torus, off-centre so it is cut by the bounds: with blocks of 2, 3, 5, 8 and 16
+    // cells the layers end at different planes (none divides every axis), so vertex ids are handed across
+    // many layer boundaries. A vertex made twice would leave a crack and a changed triangle list.
+    const dims: [number, number, number] = [11, 9, 13];
+    const torus = torusSdf(0.3, 0.12);
+    const h = 0.08;
+    const origin: [number, number, number] = [-0.35, -0.3, -0.5];
+    const values = new Float32Array(dims[0] * dims[1] * dims[2]);
+    for (let k = 0, q = 0; k < dims[2]; k++)
+      for (let j = 0; j < dims[1]; j++) for (let i = 0; i < dims[0]; i++) values[q++] = torus(origin[0] + i * h, origin[1] + j * h, origin[2] + k * h);
+    const mesh = (blockSize: number) => marchingCubesGrid(values, dims, { kind: 'sdf', level: 0, origin, spacing: [h, h, h], blockSize }).mesh;
+    const reference = sortedTriangles(mesh(8));
+    expect(reference.length).toBeGreaterThan(100);
+    for (const b of [2, 3, 5, 16]) {
+      const m = mesh(b);
+      expectClosedManifold(m, `block size ${b}`);
+      expect(sortedTriangles(m), `block size ${b}`).toEqual(reference);
+    }
+  });
+
+  test('density grid gives the same bytes as the sdf grid of its negation', () => {
+    // density: inside ⇔ v > level, s = level − v; sdf of −v at −level: inside ⇔ −v < −level, s = −v + level.
+    // Negation is exact in floating point, so both kinds must give the same mesh bit for bit.
+    const r = rng(7);
+    const n = 12;
+    const density = Float32Array.from({ length: n ** 3 }, () => r());
+    const negated = density.map((x) => -x);
+    const opts = { origin: [0, 0, 0] as [number, number, number], spacing: [1, 1, 1] as [number, number, number], blockSize: 4 };
+    const a = marchingCubesGrid(density, [n, n, n], { ...opts, kind: 'density', level: 0.55 });
+    const b = marchingCubesGrid(negated, [n, n, n], { ...opts, kind: 'sdf', level: -0.55 });
+    expect(a.mesh.indices.length).toBeGreaterThan(0);
+    expect(a.mesh.positions).toEqual(b.mesh.positions);
+    expect(a.mesh.indices).toEqual(b.mesh.indices);
+    expectClosedManifold(a.mesh, 'density noise');
+  });
+
+  test('bad input is refused with the function name', () => {
+    expect(() => marchingCubesGrid(new Float32Array(8), [2, 2, 1], { kind: 'sdf', level: 0, origin: [0, 0, 0], spacing: [1, 1, 1] })).toThrow(/^marchingCubesGrid: every axis/);
+    expect(() => marchingCubesGrid(new Float32Array(7), [2, 2, 2], { kind: 'sdf', level: 0, origin: [0, 0, 0], spacing: [1, 1, 1] })).toThrow(/^marchingCubesGrid: 7 values/);
+  });
+
   test('a sphere grid: closed, χ = 2, and only blocks near the surface are touched', async () => {
     const { grid } = await both(sphereSdf(0.3), [-1, -1, -1, 1, 1, 1], 6);
     const r = expectClosedManifold(grid.mesh, 'grid sphere');
