@@ -9,13 +9,11 @@
  * - volume: signed, by the divergence theorem (Σ det(a, b, c) / 6); positive when normals point outward.
  */
 import type { MeshData } from '../types.js';
-import { buildEdgeTable } from './edge-table.js';
 import { findBoundaryEdges } from './find-boundary-edges.js';
-import { findComponents } from './find-components.js';
-import { findDegenerateTriangles, triangleArea } from './find-degenerate-triangles.js';
+import { triangleArea } from './find-degenerate-triangles.js';
 import { findInconsistentWinding } from './find-inconsistent-winding.js';
 import { findNonManifoldEdges } from './find-non-manifold-edges.js';
-import { findNonManifoldVertices } from './find-non-manifold-vertices.js';
+import { buildMeshTopology, type MeshTopology } from './mesh-topology.js';
 
 export interface ComponentReport {
   triangles: number;
@@ -50,33 +48,41 @@ export interface MeshReport {
 
 const EXAMPLES = 5;
 
-/** Analyzes `mesh`: topology, components, Euler characteristic, genus, area and signed volume. */
-export function analyzeMesh(mesh: MeshData): MeshReport {
+/**
+ * Analyzes `mesh`: topology, components, Euler characteristic, genus, area and signed volume.
+ * @param topology the mesh's shared scans ({@link buildMeshTopology}), when the caller already made them.
+ */
+export function analyzeMesh(mesh: MeshData, topology: MeshTopology = buildMeshTopology(mesh)): MeshReport {
   const { positions, indices } = mesh;
   const V = positions.length / 3;
   const F = indices.length / 3;
-  const edges = buildEdgeTable(indices, V);
+  const { edges, nonManifoldVertices: nmVerts, degenerateTriangles: degenerate } = topology;
   const boundary = findBoundaryEdges(edges);
   const nonManifold = findNonManifoldEdges(edges);
   const inconsistent = findInconsistentWinding(edges);
-  const nmVerts = findNonManifoldVertices(indices, V);
-  const degenerate = findDegenerateTriangles(positions, indices);
-  const { triComponent, count } = findComponents(indices, V);
+  const { triComponent, count } = topology.components;
 
   const comp = Array.from({ length: count }, () => ({ v: 0, e: 0, f: 0, area: 0, volume: 0, open: false }));
   const vertComp = new Int32Array(V).fill(-1);
   for (let t = 0; t < F; t++) {
     const c = triComponent[t];
     const a = indices[3 * t], b = indices[3 * t + 1], d = indices[3 * t + 2];
-    for (const x of [a, b, d]) {
-      if (vertComp[x] < 0) {
-        vertComp[x] = c;
-        comp[c].v++;
-      }
+    const k = comp[c];
+    if (vertComp[a] < 0) {
+      vertComp[a] = c;
+      k.v++;
     }
-    comp[c].f++;
-    comp[c].area += triangleArea(positions, a, b, d);
-    comp[c].volume += signedTetVolume(positions, a, b, d);
+    if (vertComp[b] < 0) {
+      vertComp[b] = c;
+      k.v++;
+    }
+    if (vertComp[d] < 0) {
+      vertComp[d] = c;
+      k.v++;
+    }
+    k.f++;
+    k.area += triangleArea(positions, a, b, d);
+    k.volume += signedTetVolume(positions, a, b, d);
   }
   for (let e = 0; e < edges.count; e++) {
     const c = vertComp[edges.ends[2 * e]];

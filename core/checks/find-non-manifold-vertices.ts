@@ -25,29 +25,33 @@ export function findNonManifoldVertices(indices: Uint32Array, vertexCount: numbe
     }
     let n = 0;
     let pieces = 0;
-    const slot = (x: number): number => {
-      for (let q = 0; q < n; q++) if (ids[q] === x) return q;
-      ids[n] = x;
-      parent[n] = n;
-      pieces++;
-      return n++;
-    };
-    const find = (q: number): number => {
-      while (parent[q] !== q) q = parent[q] = parent[parent[q]];
-      return q;
-    };
     for (let q = s; q < e; q++) {
       const t = 3 * incident[q];
       const a = indices[t], b = indices[t + 1], c = indices[t + 2];
-      let x: number, y: number;
-      if (a === v) [x, y] = [b, c];
-      else if (b === v) [x, y] = [c, a];
-      else [x, y] = [a, b];
+      const x = a === v ? b : b === v ? c : a;
+      const y = a === v ? c : b === v ? a : b;
       if (x === v || y === v || x === y) continue; // degenerate triangle: reported by the degenerate check
-      const rx = find(slot(x));
-      const ry = find(slot(y));
-      if (rx !== ry) {
-        parent[rx] = ry;
+      // The link vertices' slots (a short linear search: a vertex has about six neighbours), then their roots.
+      let sx = 0;
+      while (sx < n && ids[sx] !== x) sx++;
+      if (sx === n) {
+        ids[n] = x;
+        parent[n] = n;
+        n++;
+        pieces++;
+      }
+      let sy = 0;
+      while (sy < n && ids[sy] !== y) sy++;
+      if (sy === n) {
+        ids[n] = y;
+        parent[n] = n;
+        n++;
+        pieces++;
+      }
+      while (parent[sx] !== sx) sx = parent[sx] = parent[parent[sx]];
+      while (parent[sy] !== sy) sy = parent[sy] = parent[parent[sy]];
+      if (sx !== sy) {
+        parent[sx] = sy;
         pieces--;
       }
     }

@@ -10,9 +10,11 @@ import { findDegenerateTriangles } from './find-degenerate-triangles.js';
 /**
  * Checks `mesh` for zero-area triangles. `where` lists their centroids.
  * @param minArea triangles with area at or below this count as degenerate, m². Default 0.
+ * @param degenerate the mesh's degenerate triangles for this `minArea` (`findDegenerateTriangles`), when
+ *   the caller already found them.
  */
-export function hasNoDegenerateTriangles(mesh: MeshData, minArea = 0): CheckResult {
-  const bad = findDegenerateTriangles(mesh.positions, mesh.indices, minArea);
+export function hasNoDegenerateTriangles(mesh: MeshData, minArea = 0, degenerate?: number[]): CheckResult {
+  const bad = degenerate ?? findDegenerateTriangles(mesh.positions, mesh.indices, minArea);
   return {
     name: 'no-degenerate-triangles',
     definition: 'no triangle repeats a vertex or has zero area',

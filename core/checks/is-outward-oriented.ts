@@ -13,12 +13,13 @@ import { findComponents } from './find-components.js';
  * Checks the orientation of each closed component of `mesh`. `where` lists one vertex of each
  * inside-out component.
  * @param edges the mesh's edge table, when the caller already built it.
+ * @param components the mesh's components (`findComponents`), when the caller already found them.
  */
-export function isOutwardOriented(mesh: MeshData, edges?: EdgeTable): CheckResult {
+export function isOutwardOriented(mesh: MeshData, edges?: EdgeTable, components?: { triComponent: Uint32Array; count: number }): CheckResult {
   const { positions, indices } = mesh;
   const V = positions.length / 3;
   const table = edges ?? buildEdgeTable(indices, V);
-  const { triComponent, count } = findComponents(indices, V);
+  const { triComponent, count } = components ?? findComponents(indices, V);
   const volume = new Float64Array(count);
   const firstVertex = new Int32Array(count).fill(-1);
   for (let t = 0; t < indices.length / 3; t++) {

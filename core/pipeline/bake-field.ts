@@ -16,6 +16,7 @@ import { findSelfIntersections } from '../checks/find-self-intersections.js';
 import { areaWeightedNormals } from '../normals/area-weighted-normals.js';
 import { analyzeMesh, type MeshReport } from '../checks/analyze-mesh.js';
 import { runChecks } from '../checks/run-checks.js';
+import { buildMeshTopology } from '../checks/mesh-topology.js';
 import type { CheckResult } from '../checks/check-result.js';
 import { countSmallParts, removeSmallParts, SMALL_PART_WARNING_FRACTION } from '../cleanup/remove-small-parts.js';
 import { removeDegenerateTriangles, type DegenerateTrianglesRemoved } from '../cleanup/remove-degenerate-triangles.js';
@@ -343,10 +344,12 @@ async function bakeStages(field: Field, options: BakeOptions): Promise<BakeResul
 
   progress('check', 0);
   t = performance.now();
-  const check = analyzeMesh(base);
+  // One topology scan of the base level serves both the report's figures and the named checks.
+  const topology = buildMeshTopology(base);
+  const check = analyzeMesh(base, topology);
   const selfIntersections = findSelfIntersections(base).length / 2;
   if (selfIntersections > 0) warn(`the mesh intersects itself in ${selfIntersections} pairs of triangles`);
-  const checks = runChecks(base).map(({ name, ok, count, unit, where }) => ({ name, ok, count, unit, where }));
+  const checks = runChecks(base, topology).map(({ name, ok, count, unit, where }) => ({ name, ok, count, unit, where }));
   const lodReport: BakeReport['lods'] = lodResults.map((l, i) => {
     const r = analyzeMesh(l.mesh);
     return { level: i + 1, targetTriangles: l.targetTriangles, triangles: r.triangles, vertices: r.vertices, maxError: l.maxError, watertight: r.watertight, genus: r.genus };

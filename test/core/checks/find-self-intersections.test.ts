@@ -61,6 +61,36 @@ describe('findSelfIntersections', () => {
     expect(findSelfIntersections(through)).toEqual([0, 1]);
   });
 
+  it('a large triangle slicing through many small ones is paired with each it crosses, and only those', () => {
+    // A strip of small triangles standing in the plane x = 0 (unit squares split in two, y in 0..10,
+    // z in −1..1) and one large triangle lying in z = 0 across all of them. The strip is flat and its
+    // triangles only meet along shared edges, so every pair found must include the large one (index 20).
+    // The large triangle's interior meets every strip triangle: its interval on the line x = 0, z = 0
+    // covers y in 0..10, and each strip triangle's runs over the part of its square's diagonal split.
+    const pos: number[] = [];
+    const idx: number[] = [];
+    for (let k = 0; k <= 10; k++) pos.push(0, k, -1, 0, k, 1);
+    for (let k = 0; k < 10; k++) idx.push(2 * k, 2 * k + 2, 2 * k + 3, 2 * k, 2 * k + 3, 2 * k + 1);
+    pos.push(-1, -5, 0, 1, -5, 0, 0, 25, 0);
+    idx.push(22, 23, 24);
+    const pairs = findSelfIntersections(mesh(pos, idx));
+    const partners = [];
+    for (let q = 0; q < pairs.length; q += 2) {
+      expect(pairs[q + 1]).toBe(20);
+      partners.push(pairs[q]);
+    }
+    // Every one of the 20 strip triangles reaches z = 0 in its interior: the diagonal of each square runs
+    // from z = −1 to z = 1, so both halves of each square cross the line.
+    expect(partners).toEqual(Array.from({ length: 20 }, (_, t) => t));
+  });
+
+  it('a duplicate of a triangle with a NaN corner is still reported (it cannot be placed in space)', () => {
+    // Triangles 1 and 2 repeat the same three vertex indices (a duplicate, by definition), one of which is
+    // NaN; triangle 0 is a clean triangle far away. Only the duplicate pair counts.
+    const m = mesh([0, 0, 0, 1, 0, 0, 0, 1, 0, 5, 5, 5, NaN, 5, 5, 5, 6, 5], [0, 1, 2, 3, 4, 5, 3, 4, 5]);
+    expect(findSelfIntersections(m)).toEqual([1, 2]);
+  });
+
   it('rejects indices out of range', () => {
     expect(() => findSelfIntersections(mesh([0, 0, 0], [0, 1, 2]))).toThrow(/findSelfIntersections: index 1/);
   });
