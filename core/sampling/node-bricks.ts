@@ -13,6 +13,8 @@
 const SHIFT = 2;
 const B = 1 << SHIFT;
 const LOCAL_MASK = B - 1;
+/** Nodes per brick edge; a brick's local slot is x + B·y + B²·z. */
+export const BRICK_EDGE = B;
 /** Nodes per brick. */
 export const BRICK_NODES = B * B * B;
 /** Bricks per super-brick edge (the directory's first level). */

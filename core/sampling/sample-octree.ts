@@ -38,7 +38,7 @@ import type { Bounds, ProgressFn } from '../types.js';
 import { FieldkilnError, throwIfAborted } from '../types.js';
 import { IntList } from './key-map.js';
 import { makeLattice, denseNodeCount, type Lattice } from './lattice.js';
-import { BRICK_NODES, NODE_KNOWN, NODE_QUEUED, NODE_UNKNOWN, NodeBricks } from './node-bricks.js';
+import { BRICK_EDGE, BRICK_NODES, NODE_KNOWN, NODE_QUEUED, NODE_UNKNOWN, NodeBricks } from './node-bricks.js';
 
 /** Options for {@link sampleOctree}. */
 export interface SampleOctreeOptions {
@@ -129,7 +129,11 @@ class NodeSampler {
 
   /** Slot of node (i, j, k), queued for evaluation if it was never asked for. */
   request(i: number, j: number, k: number): number {
-    const s = this.nodes.slot(i, j, k);
+    return this.requestSlot(this.nodes.slot(i, j, k));
+  }
+
+  /** `request` for a node whose slot is known. */
+  requestSlot(s: number): number {
     if (this.nodes.state[s] === NODE_UNKNOWN) {
       this.nodes.state[s] = NODE_QUEUED;
       this.pending.push(s);
@@ -282,7 +286,8 @@ export async function sampleOctree(field: Field, options: SampleOctreeOptions = 
         if (nodes.cellSeen[s0]) continue;
         nodes.cellSeen[s0] = 1;
         fresh.push3(i, j, k);
-        for (let q = 0; q < 8; q++) corner[8 * c + q] = sampler.request(i + (q & 1), j + ((q >> 1) & 1), k + ((q >> 2) & 1));
+        if (inOneBrick(i, j, k)) for (let q = 0; q < 8; q++) corner[8 * c + q] = sampler.requestSlot(s0 + CORNER_SLOT_OFFSET[q]);
+        else for (let q = 0; q < 8; q++) corner[8 * c + q] = sampler.request(i + (q & 1), j + ((q >> 1) & 1), k + ((q >> 2) & 1));
         c++;
       }
       await sampler.flush();
@@ -546,8 +551,9 @@ async function settleDoubtful(sampler: NodeSampler, cells: IntList, lh: number, 
   const scan = (i: number, j: number, k: number): number => {
     let known = 0, inside = 0;
     const vals = nodes.vals, state = nodes.state;
+    const base = inOneBrick(i, j, k) ? nodes.find(i, j, k) : -1;
     for (let q = 0; q < 8; q++) {
-      const s = nodes.find(i + (q & 1), j + ((q >> 1) & 1), k + ((q >> 2) & 1));
+      const s = base >= 0 ? base + CORNER_SLOT_OFFSET[q] : nodes.find(i + (q & 1), j + ((q >> 1) & 1), k + ((q >> 2) & 1));
       slots[q] = s;
       if (s >= 0 && state[s] === NODE_KNOWN) {
         known |= 1 << q;
@@ -598,6 +604,15 @@ async function settleDoubtful(sampler: NodeSampler, cells: IntList, lh: number, 
 }
 
 const POPCOUNT3 = [0, 1, 1, 2, 1, 2, 2, 3];
+
+/** True when all 8 corners of cell (i, j, k) lie in the brick of its lowest corner. */
+function inOneBrick(i: number, j: number, k: number): boolean {
+  const m = BRICK_EDGE - 1;
+  return (i & m) !== m && (j & m) !== m && (k & m) !== m;
+}
+
+/** Slot offset of corner q from the cell's lowest corner, inside one brick. */
+const CORNER_SLOT_OFFSET = Int32Array.from({ length: 8 }, (_, q) => (q & 1) + BRICK_EDGE * (((q >> 1) & 1) + BRICK_EDGE * ((q >> 2) & 1)));
 
 /** Corner bits of each face 2·axis + side (corners whose bit `axis` equals `side`). */
 const FACE_MASK: readonly number[] = Array.from({ length: 6 }, (_, f) => {

@@ -83,7 +83,17 @@ async function run(spec: Spec): Promise<Record<string, unknown>> {
     const seconds = (performance.now() - t0) / 1000;
     const a = analyzeMesh(mesh);
     await field.dispose?.();
-    return { seconds, evaluations: cells.evaluations, triangles: a.triangles, area: a.area };
+    // The least any method that contours these cells must evaluate: the distinct corners of the surface cells.
+    const [nx, ny] = cells.lattice.cells;
+    const corners = new Float64Array(cells.count * 8);
+    for (let r = 0; r < cells.count; r++) {
+      const i = cells.coords[3 * r], j = cells.coords[3 * r + 1], k = cells.coords[3 * r + 2];
+      for (let q = 0; q < 8; q++) corners[8 * r + q] = i + (q & 1) + (nx + 1) * (j + ((q >> 1) & 1) + (ny + 1) * (k + ((q >> 2) & 1)));
+    }
+    corners.sort();
+    let least = 0;
+    for (let q = 0; q < corners.length; q++) if (q === 0 || corners[q] !== corners[q - 1]) least++;
+    return { seconds, evaluations: cells.evaluations, surfaceCellCorners: least, triangles: a.triangles, area: a.area };
   }
   if (spec.type === 'usual') {
     const field = await openField(resolve(ROOT, spec.file));

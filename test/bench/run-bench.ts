@@ -3,7 +3,8 @@
  * Every case runs in its own child process (build/test/bench/bench-case.js) so its peak RSS is its own.
  * Prints tables and writes bench-results/bench.json (git-ignored).
  *
- * Options: --quick (depth 7 and the 128³/256³ grids only), --no-512 (skip the 512³ grids).
+ * Options: --quick (depth 7 and the 128³/256³ grids only), --no-512 (skip the 512³ grids),
+ * --only=inference,fixtures,usual,recipe,grids (run only those sections).
  */
 import { spawnSync } from 'node:child_process';
 import { existsSync, mkdirSync, writeFileSync } from 'node:fs';
@@ -14,6 +15,8 @@ const CASE = resolve(ROOT, 'build', 'test', 'bench', 'bench-case.js');
 const SHARED = resolve(ROOT, '..', 'shared', 'fixtures');
 const quick = process.argv.includes('--quick');
 const no512 = process.argv.includes('--no-512') || quick;
+const only = process.argv.find((a) => a.startsWith('--only='))?.slice(7).split(',');
+const want = (section: string) => !only || only.includes(section);
 
 type Row = Record<string, unknown>;
 function runCase(spec: Row): Row {
@@ -42,7 +45,7 @@ const haveFixtures = existsSync(resolve(SHARED, 'manifest.json'));
 if (!haveFixtures) console.log(`note: ${SHARED} is absent; fixture cases skipped`);
 
 // 1. Raw inference throughput, 1 vs 2 intra-op threads (chooses the default), at the sampler's batch size.
-if (haveFixtures) {
+if (haveFixtures && want('inference')) {
   results.inference = [];
   for (const file of neural)
     for (const threads of [1, 2])
@@ -50,41 +53,47 @@ if (haveFixtures) {
   table('Raw inference (nothing else running): points per second', ['model', 'threads', 'batch', 'points/s'], results.inference.map((r) => [String((r.spec as Row).file).split('/').pop()!, String((r.spec as Row).threads), String((r.spec as Row).batch), f(r.pointsPerSecond, 0)]));
 }
 
-// 2. The pipeline on every fixture at depth 7 and 9.
-if (haveFixtures) {
+// 2. The pipeline on every fixture at depth 7 and 9 (defaults: no budget), and the neural fixtures at
+// depth 9 as a game prop: a 50,000-triangle budget and 2 LODs, which adds the decimate stage.
+if (haveFixtures && want('fixtures')) {
   results.fixtures = [];
   for (const file of [...neural, ...grids]) for (const depth of quick ? [7] : [7, 9]) results.fixtures.push(runCase({ type: 'pipeline', file: resolve(SHARED, file), depth }));
+  if (!quick) for (const file of neural) results.fixtures.push(runCase({ type: 'pipeline', file: resolve(SHARED, file), depth: 9, budget: 50_000, lods: 2 }));
   table(
-    'Fixtures through the whole pipeline (seconds per stage; evaluations vs the dense lattice)',
-    ['fixture', 'depth', 'evals', 'dense', 'evals %', 'sample', 'extract', 'color', 'check', 'export', 'total', 'outside inference', 'triangles', 'peak RSS'],
+    'Fixtures through the whole pipeline (seconds per stage; evaluations vs the dense lattice; "inference" = time inside the model, all stages)',
+    ['fixture', 'depth', 'budget', 'evals', 'dense', 'evals %', 'open', 'sample', 'extract', 'cleanup', 'normals', 'decimate', 'bake', 'check', 'export', 'total', 'inference', 'outside inference', 'triangles', 'peak RSS'],
     results.fixtures.map((r) => {
       const t = (r.timings ?? {}) as Row;
-      return [String((r.spec as Row).file).split('/').pop()!, String((r.spec as Row).depth), f(r.evaluations, 0), f(r.denseEvaluations, 0), f((100 * (r.evaluations as number)) / (r.denseEvaluations as number), 3), f(t.sample), f(t.extract), f(t.color), f(t.check), f(t.export), f(t.total), `${f(100 * (r.outsideInferenceShare as number), 1)}%`, f(r.triangles, 0), mb(r.peakRss)].map(String);
+      const s = r.spec as Row;
+      return [
+        String(s.file).split('/').pop()!, String(s.depth), s.budget ? `${s.budget}+${s.lods} LODs` : '—', f(r.evaluations, 0), f(r.denseEvaluations, 0), f((100 * (r.evaluations as number)) / (r.denseEvaluations as number), 3),
+        f(t.open), f(t.sample), f(t.extract), f(t.cleanup), f(t.normals), f(t.decimate), f(t.bake), f(t.check), f(t.export), f(t.total), f(r.inferenceSeconds), `${f(100 * (r.outsideInferenceShare as number), 1)}%`, f(r.triangles, 0), mb(r.peakRss),
+      ].map(String);
     }),
   );
 }
 
 // 3. Against the usual way (evaluate the whole lattice, then contour) at depth 8 (and 9, extrapolated from slabs).
-if (haveFixtures && !quick) {
+if (haveFixtures && !quick && want('usual')) {
   results.usual = [];
   for (const file of neural) {
     const ours = runCase({ type: 'pipeline', file: resolve(SHARED, file), depth: 8 });
     const raw = runCase({ type: 'raw', file: resolve(SHARED, file), depth: 8 });
     const usual = runCase({ type: 'usual', file: resolve(SHARED, file), depth: 8 });
-    const ours9 = results.fixtures?.find((r) => (r.spec as Row).file === resolve(SHARED, file) && (r.spec as Row).depth === 9);
+    const ours9 = results.fixtures?.find((r) => (r.spec as Row).file === resolve(SHARED, file) && (r.spec as Row).depth === 9 && !(r.spec as Row).budget);
     const usual9 = runCase({ type: 'usual', file: resolve(SHARED, file), depth: 9, slabs: 8 });
     const raw9 = runCase({ type: 'raw', file: resolve(SHARED, file), depth: 9 });
     results.usual.push({ file, ours, raw, usual, ours9, raw9, usual9 });
   }
   table(
     'Adaptive vs the usual way (dense evaluation + marching cubes), same mesh',
-    ['model', 'depth', 'ours: sample+MC s', 'usual s', 'speed-up', 'ours tris', 'usual tris', 'whole pipeline s', 'note'],
+    ['model', 'depth', 'ours: sample+MC s', 'usual s', 'speed-up', 'ours evals', 'least evals', 'usual evals', 'usual/least', 'ours tris', 'usual tris', 'whole pipeline s', 'note'],
     results.usual.flatMap((r) => {
       const o = r.ours as Row, w = r.raw as Row, u = r.usual as Row, o9 = (r.ours9 ?? {}) as Row, w9 = r.raw9 as Row, u9 = r.usual9 as Row;
       const ot = (o.timings as Row | undefined)?.total as number, o9t = (o9.timings as Row | undefined)?.total as number;
       return [
-        [String(r.file), '8', f(w.seconds), f(u.seconds), `${f((u.seconds as number) / (w.seconds as number), 1)}×`, f(w.triangles, 0), f(u.triangles, 0), f(ot), 'both measured; same raw mesh'],
-        [String(r.file), '9', f(w9.seconds), f(u9.seconds), `${f((u9.seconds as number) / (w9.seconds as number), 1)}×`, f(w9.triangles, 0), '—', f(o9t), 'usual: extrapolated from 8 timed slabs, evaluation only'],
+        [String(r.file), '8', f(w.seconds), f(u.seconds), `${f((u.seconds as number) / (w.seconds as number), 1)}×`, f(w.evaluations, 0), f(w.surfaceCellCorners, 0), f(u.evaluations, 0), `${f((u.evaluations as number) / (w.surfaceCellCorners as number), 1)}×`, f(w.triangles, 0), f(u.triangles, 0), f(ot), 'both measured; same raw mesh'],
+        [String(r.file), '9', f(w9.seconds), f(u9.seconds), `${f((u9.seconds as number) / (w9.seconds as number), 1)}×`, f(w9.evaluations, 0), f(w9.surfaceCellCorners, 0), f(u9.evaluations, 0), `${f((u9.evaluations as number) / (w9.surfaceCellCorners as number), 1)}×`, f(w9.triangles, 0), '—', f(o9t), 'usual: extrapolated from 8 timed slabs, evaluation only'],
       ];
     }),
   );
@@ -92,7 +101,7 @@ if (haveFixtures && !quick) {
 
 // 4. A recipe prop at depths 8, 9, 10: scaling and memory.
 results.recipe = [];
-for (const depth of quick ? [8] : [8, 9, 10]) results.recipe.push(runCase({ type: 'pipeline', file: resolve(ROOT, 'assets/demo/lantern-post.recipe.json'), depth }));
+if (want('recipe')) for (const depth of quick ? [8] : [8, 9, 10]) results.recipe.push(runCase({ type: 'pipeline', file: resolve(ROOT, 'assets/demo/lantern-post.recipe.json'), depth }));
 table(
   'Recipe prop (lantern post): growth per depth level (a surface should grow about 4×, not 8×)',
   ['depth', 'evaluations', 'ratio', 'total s', 'ratio', 'triangles', 'peak RSS'],
