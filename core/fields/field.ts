@@ -29,8 +29,22 @@ export interface Field {
   evaluate(points: Float32Array, signal?: AbortSignal): Promise<Float32Array>;
   /** Linear RGB (0..1) at `points`, 3 floats per point. Only when `hasColor`. */
   evaluateColor?(points: Float32Array, signal?: AbortSignal): Promise<Float32Array>;
+  /**
+   * The source's own node samples, when it has them (dense grids): what `--on-samples` meshes directly,
+   * without resampling onto the octree lattice.
+   */
+  readonly samples?: GridSamples;
   /** Releases workers, sessions and so on. Optional. */
   dispose?(): Promise<void> | void;
+}
+
+/** A dense grid's node samples: values x fastest, then y, then z; node (i, j, k) sits at origin + (i, j, k)·spacing. */
+export interface GridSamples {
+  values: Float32Array;
+  /** Samples per axis [nx, ny, nz]. */
+  dims: [number, number, number];
+  origin: [number, number, number];
+  spacing: [number, number, number];
 }
 
 /** What a source says about itself. */

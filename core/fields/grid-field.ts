@@ -153,6 +153,7 @@ export function createGridField(opts: GridFieldOptions): Field {
     hasColor: colors !== undefined,
     lipschitz: kind === 'sdf' ? Math.sqrt(3) : undefined,
     description,
+    samples: { values, dims: [nx, ny, nz], origin: [bounds[0], bounds[1], bounds[2]], spacing: spacing as [number, number, number] },
     async evaluate(points: Float32Array, signal?: AbortSignal): Promise<Float32Array> {
       checkPoints(points, 'evaluate');
       throwIfAborted(signal);

@@ -11,6 +11,7 @@ import type { Bounds, Logger, MeshData, ProgressFn } from '../types.js';
 import { CancelledError, FieldkilnError, throwIfAborted } from '../types.js';
 import { sampleOctree, SAMPLE_OCTREE_DEFAULTS, type SurfaceCells } from '../sampling/sample-octree.js';
 import { marchingCubes } from '../meshing/marching-cubes.js';
+import { marchingCubesGrid } from '../meshing/marching-cubes-grid.js';
 import { dualContour } from '../meshing/dual-contouring.js';
 import { findSelfIntersections } from '../checks/find-self-intersections.js';
 import { areaWeightedNormals } from '../normals/area-weighted-normals.js';
@@ -51,6 +52,12 @@ export interface BakeOptions {
   nonfinite?: 'error' | 'outside';
   /** Meshing method. Default: 'marching-cubes'. */
   method?: MeshingMethod;
+  /**
+   * Mesh a dense grid at its own samples (marching cubes straight over them, skipping empty blocks)
+   * instead of resampling it onto the octree lattice; `depth`, `bounds`, `lipschitz` and `startDepth`
+   * do not apply. Only for fields with `samples` (grids). Default: false.
+   */
+  onSamples?: boolean;
   /** Written into the GLB's extras. */
   provenance?: Record<string, unknown>;
   /** Skip writing the GLB (preview). Default: false. */
@@ -110,6 +117,8 @@ export interface BakeReport {
   fieldkiln: string;
   input: { source: string; name: string; kind: string; bounds: Bounds; level: number; outputs: string[]; hasColor: boolean };
   sampling: {
+    /** 'octree': adaptive sampling on the lattice of `depth`; 'samples': a grid meshed at its own samples (`depth` 0). */
+    mode: 'octree' | 'samples';
     depth: number;
     cellSize: number;
     latticeCells: [number, number, number];
@@ -164,7 +173,8 @@ export interface BakeResult {
   format: ExportFormat;
   /** Further levels of detail (normals, and colors when the field has them). */
   lods: MeshData[];
-  cells: SurfaceCells;
+  /** The sampler's surface cells (absent with `onSamples`). */
+  cells?: SurfaceCells;
   /** With `texture`: the base level split at UV seams, its UVs, tangents and images (what the glTF holds). */
   textures?: BakeTexturesResult;
   /** With `collision`: the convex hull of the base level. */
@@ -214,39 +224,99 @@ async function bakeStages(field: Field, options: BakeOptions): Promise<BakeResul
   if (level === undefined) throw new FieldkilnError(`this ${field.kind} field declares no iso-level; pass --level`);
 
   let t = performance.now();
-  const cells = await sampleOctree(field, {
-    depth,
-    level,
-    bounds,
-    lipschitz: options.lipschitz,
-    startDepth: options.startDepth,
-    nonfinite: options.nonfinite,
-    signal: options.signal,
-    onProgress: progress,
-  });
-  timings.sample = secs(t);
-  const [vmin, vmax] = cells.valueRange;
-  if (cells.count === 0) {
+  // What the report says about sampling, whichever way the surface was found.
+  let sampled: Omit<BakeReport['sampling'], 'extraEvaluations' | 'mode' | 'depth'>;
+  let cells: SurfaceCells | undefined;
+  let mesh: MeshData | undefined;
+  let extraEvaluations = 0;
+  if (options.onSamples) {
+    const g = field.samples;
+    if (!g) throw new FieldkilnError(`--on-samples meshes a dense grid at its own samples; ${field.description.name} is a ${field.description.source} field, which has none`);
+    if (method !== 'marching-cubes') throw new FieldkilnError(`--on-samples works with marching cubes only (dual contouring needs the field between the samples)`);
+    if (options.bounds) throw new FieldkilnError(`--bounds does not apply with --on-samples: the grid is meshed over its own bounds`);
+    const [gx, gy, gz] = g.dims;
+    const inside = (v: number) => (field.kind === 'sdf' ? v < level : v > level);
+    let vmin = Infinity, vmax = -Infinity, nonFinite = 0, closedAtBounds = 0;
+    for (let k = 0, q = 0; k < gz; k++)
+      for (let j = 0; j < gy; j++)
+        for (let i = 0; i < gx; i++, q++) {
+          const v = g.values[q];
+          if (!Number.isFinite(v)) {
+            nonFinite++;
+            continue;
+          }
+          if (v < vmin) vmin = v;
+          if (v > vmax) vmax = v;
+          if ((i === 0 || j === 0 || k === 0 || i === gx - 1 || j === gy - 1 || k === gz - 1) && inside(v)) closedAtBounds++;
+        }
+    if (nonFinite > 0 && (options.nonfinite ?? 'error') === 'error') {
+      throw new FieldkilnError(`the grid holds ${nonFinite} non-finite samples (NaN or ±Inf); pass --nonfinite outside to treat them as empty space`);
+    }
+    timings.sample = secs(t);
+    progress('extract', 0);
+    t = performance.now();
+    const ex = marchingCubesGrid(g.values, g.dims, { kind: field.kind, level, origin: g.origin, spacing: g.spacing });
+    timings.extract = secs(t);
+    mesh = ex.mesh;
+    sampled = {
+      cellSize: Math.min(...g.spacing),
+      latticeCells: [gx - 1, gy - 1, gz - 1],
+      evaluations: 0,
+      denseEvaluations: gx * gy * gz,
+      evaluationRatio: 0,
+      surfaceCells: ex.surfaceCells,
+      closedAtBounds,
+      nonFinite,
+      valueRange: [vmin, vmax],
+    };
+  } else {
+    cells = await sampleOctree(field, {
+      depth,
+      level,
+      bounds,
+      lipschitz: options.lipschitz,
+      startDepth: options.startDepth,
+      nonfinite: options.nonfinite,
+      signal: options.signal,
+      onProgress: progress,
+    });
+    timings.sample = secs(t);
+    sampled = {
+      cellSize: cells.lattice.cellSize,
+      latticeCells: cells.lattice.cells,
+      evaluations: cells.evaluations,
+      denseEvaluations: cells.denseEvaluations,
+      evaluationRatio: cells.evaluations / cells.denseEvaluations,
+      surfaceCells: cells.count,
+      closedAtBounds: cells.closedAtBounds,
+      nonFinite: cells.nonFinite,
+      valueRange: cells.valueRange,
+    };
+  }
+  const [vmin, vmax] = sampled.valueRange;
+  if (sampled.surfaceCells === 0) {
     const range = Number.isFinite(vmin) ? ` (values seen: ${fmt(vmin)} to ${fmt(vmax)})` : '';
-    throw new FieldkilnError(`no surface: the field does not cross level ${fmt(level)} inside the bounds at depth ${depth}${range}`);
+    const where = options.onSamples ? 'at its own samples' : `at depth ${depth}`;
+    throw new FieldkilnError(`no surface: the field does not cross level ${fmt(level)} inside the bounds ${where}${range}`);
   }
-  if (cells.closedAtBounds > 0) {
-    warn(`the surface leaves the bounds (${cells.closedAtBounds} samples on the outer layer are inside); it was closed at the bounds, treating outside the bounds as outside`);
+  if (sampled.closedAtBounds > 0) {
+    warn(`the surface leaves the bounds (${sampled.closedAtBounds} samples on the outer layer are inside); it was closed at the bounds, treating outside the bounds as outside`);
   }
-  if (cells.nonFinite > 0) warn(`${cells.nonFinite} samples were NaN or ±Inf and were treated as outside (--nonfinite outside)`);
+  if (sampled.nonFinite > 0) warn(`${sampled.nonFinite} samples were NaN or ±Inf and were treated as outside (--nonfinite outside)`);
 
   throwIfAborted(options.signal);
-  progress('extract', 0);
-  t = performance.now();
-  let extraEvaluations = 0;
-  let mesh: MeshData;
-  if (method === 'dual-contouring') {
-    const dc = await dualContour(cells, field, { signal: options.signal });
-    mesh = dc.mesh;
-    extraEvaluations = dc.extraEvaluations;
-  } else mesh = marchingCubes(cells);
-  timings.extract = secs(t);
+  if (cells) {
+    progress('extract', 0);
+    t = performance.now();
+    if (method === 'dual-contouring') {
+      const dc = await dualContour(cells, field, { signal: options.signal });
+      mesh = dc.mesh;
+      extraEvaluations = dc.extraEvaluations;
+    } else mesh = marchingCubes(cells);
+    timings.extract = secs(t);
+  }
 
+  if (!mesh) throw new Error('bakeField: no mesh after extraction');
   // Cleanup: floaters (on request), then degenerate triangles, which are removed without opening the mesh.
   progress('cleanup', 0);
   t = performance.now();
@@ -282,7 +352,7 @@ async function bakeStages(field: Field, options: BakeOptions): Promise<BakeResul
   throwIfAborted(options.signal);
   progress('normals', 0);
   t = performance.now();
-  const cellSize = cells.lattice.cellSize;
+  const cellSize = sampled.cellSize;
   const normalsReport: BakeReport['normals'] = { method: shaping.normals, fallbackVertices: 0, step: null };
   if (shaping.normals === 'field') {
     const step = FIELD_GRADIENT_NORMALS_DEFAULTS.stepCells * cellSize;
@@ -454,16 +524,9 @@ async function bakeStages(field: Field, options: BakeOptions): Promise<BakeResul
       hasColor: field.hasColor,
     },
     sampling: {
-      depth,
-      cellSize: cells.lattice.cellSize,
-      latticeCells: cells.lattice.cells,
-      evaluations: cells.evaluations,
-      denseEvaluations: cells.denseEvaluations,
-      evaluationRatio: cells.evaluations / cells.denseEvaluations,
-      surfaceCells: cells.count,
-      closedAtBounds: cells.closedAtBounds,
-      nonFinite: cells.nonFinite,
-      valueRange: [vmin, vmax],
+      mode: options.onSamples ? 'samples' : 'octree',
+      depth: options.onSamples ? 0 : depth,
+      ...sampled,
       extraEvaluations,
     },
     mesh: { method, ...meshFigures, selfIntersections, perComponent, where },

@@ -34,6 +34,9 @@ Turns a field (.onnx neural field, .npy grid with .json sidecar, .json recipe) i
   --lipschitz <L>         gradient bound used to skip empty space in a neural SDF (default ${SAMPLE_OCTREE_DEFAULTS.neuralLipschitz})
   --start-depth <n>       first level refined for density/occupancy fields (default ${SAMPLE_OCTREE_DEFAULTS.startDepth})
   --method <name>         ${MESHING_METHODS.join(' | ')} (default ${BAKE_DEFAULTS.method})
+  --on-samples            .npy grids: mesh the grid at its own samples (marching cubes straight over them, skipping
+                          empty blocks) instead of resampling it on the octree lattice; --depth, --bounds,
+                          --lipschitz and --start-depth do not apply
   --nonfinite <mode>      error | outside: what NaN/±Inf samples mean (default error)
   --min-part <fraction>   drop parts whose area is below this fraction of the largest part's (default: keep all,
                           and warn about parts under ${SMALL_PART_WARNING_FRACTION})
@@ -84,6 +87,7 @@ export async function runBake(argv: string[]): Promise<number> {
       report: { type: 'string' },
       overwrite: { type: 'boolean', default: false },
       force: { type: 'boolean', default: false },
+      'on-samples': { type: 'boolean', default: false },
       quiet: { type: 'boolean', default: false },
       help: { type: 'boolean', short: 'h' },
     },
@@ -112,6 +116,11 @@ export async function runBake(argv: string[]): Promise<number> {
   const normals = parseChoice('normals', values.normals, NORMALS_METHODS);
   const texture = parseIntegerOption('texture', values.texture, TEXTURE_DEFAULTS.minSize, TEXTURE_DEFAULTS.maxSize);
   if (texture !== undefined && (texture & (texture - 1)) !== 0) throw new UsageError(`--texture wants a power of two such as 512, 1024 or 2048 (got '${values.texture}')`);
+  const onSamples = values['on-samples'] ?? false;
+  if (onSamples) {
+    const given = (['depth', 'bounds', 'lipschitz', 'start-depth'] as const).filter((o) => values[o] !== undefined);
+    if (given.length > 0) throw new UsageError(`--${given[0]} does not apply with --on-samples: the grid is meshed at its own samples, over its own bounds`);
+  }
   const overwrite = values.overwrite ?? false;
   const outPath = resolve(values.out);
   const reportPath = values.report ? resolve(values.report) : undefined;
@@ -126,7 +135,7 @@ export async function runBake(argv: string[]): Promise<number> {
   const field = await openField(input, { kind, bounds, level });
   const openSecs = Math.round(performance.now() - t0) / 1000;
   try {
-    const early = await guardResources(field, { depth: depth ?? BAKE_DEFAULTS.depth, level, bounds, lipschitz, startDepth, force: values.force ?? false });
+    const early = onSamples ? [] : await guardResources(field, { depth: depth ?? BAKE_DEFAULTS.depth, level, bounds, lipschitz, startDepth, force: values.force ?? false });
     const bytes = readFileSync(input);
     const sha256 = createHash('sha256').update(bytes).digest('hex');
     const result = await bakeField(field, {
@@ -141,6 +150,7 @@ export async function runBake(argv: string[]): Promise<number> {
       startDepth,
       nonfinite,
       method,
+      onSamples,
       minPart,
       budget,
       lods,

@@ -1,0 +1,82 @@
+/**
+ * `fieldkiln bake --on-samples`: a dense grid meshed at its own samples, checked against the shared
+ * fixtures' manifest (scikit-image's marching cubes of the very same grid, and the analytic truth), the
+ * `isosurface` package on the same samples, and Khronos' glTF-Validator.
+ */
+import { existsSync, mkdtempSync, readFileSync, rmSync } from 'node:fs';
+import { createRequire } from 'node:module';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { afterAll, beforeAll, describe, expect, test } from 'vitest';
+import validator from 'gltf-validator';
+import { runCli } from '../../helpers/run-cli.js';
+import { fixturePath, hasFixtures, loadManifest } from '../../helpers/fixtures.js';
+import { parseNpy } from '../../../core/fields/npy.js';
+
+const require = createRequire(import.meta.url);
+let dir: string;
+beforeAll(() => {
+  dir = mkdtempSync(join(tmpdir(), 'fieldkiln-samples-'));
+});
+afterAll(() => rmSync(dir, { recursive: true, force: true }));
+
+interface Reference { area_m2: number; volume_m3: number; euler_characteristic: number; vertices?: number; triangles?: number }
+
+describe.skipIf(!hasFixtures)('bake --on-samples on the shared grid fixtures', () => {
+  const manifest = hasFixtures ? loadManifest() : { fixtures: [] };
+  for (const fx of manifest.fixtures.filter((f) => f.file.endsWith('.npy'))) {
+    test(`${fx.id}: closed, valid, and the manifest's marching-cubes reference of the same grid`, async () => {
+      const out = join(dir, `${fx.id}.glb`);
+      const rep = join(dir, `${fx.id}.json`);
+      const r = runCli(['bake', fixturePath(fx.file), '--on-samples', '--out', out, '--report', rep, '--quiet']);
+      expect(r.code, r.stderr).toBe(0);
+      const report = JSON.parse(readFileSync(rep, 'utf8'));
+      const v = await validator.validateBytes(new Uint8Array(readFileSync(out)), { maxIssues: 20 });
+      expect(v.issues.numErrors).toBe(0);
+      expect(v.issues.numWarnings).toBe(0);
+      expect(report.sampling.mode).toBe('samples');
+      expect(report.sampling.evaluations).toBe(0); // the samples are read, not evaluated
+      const shape = (fx as unknown as { grid: { shape: number[] } }).grid.shape;
+      expect(report.sampling.denseEvaluations).toBe(shape[0] * shape[1] * shape[2]);
+      expect(report.mesh.watertight).toBe(true);
+      expect(report.mesh.selfIntersections).toBe(0);
+      // Source: manifest `grid_marching_cubes_reference` (scikit-image, Lewiner's marching cubes of this
+      // very grid) where given, else the analytic truth; χ exactly, area and volume to 0.5% (the two
+      // methods triangulate the same cell polygons differently).
+      const ref = ((fx as unknown as { grid_marching_cubes_reference?: Reference }).grid_marching_cubes_reference ?? fx.truth) as Reference;
+      console.log(`${fx.id}: area ${report.mesh.area.toFixed(5)} vs ${ref.area_m2}, volume ${report.mesh.volume.toFixed(6)} vs ${ref.volume_m3}, ${report.mesh.vertices} vertices, ${report.mesh.triangles} triangles`);
+      expect(report.mesh.eulerCharacteristic).toBe(ref.euler_characteristic);
+      expect(Math.abs(report.mesh.area / ref.area_m2 - 1)).toBeLessThan(0.005);
+      expect(Math.abs(report.mesh.volume / ref.volume_m3 - 1)).toBeLessThan(0.005);
+      // One vertex per sign-changing grid edge, as in every marching cubes: the same count as the reference.
+      if (ref.vertices !== undefined) expect(report.mesh.vertices).toBe(ref.vertices);
+      if (ref.triangles !== undefined) expect(report.mesh.triangles).toBe(ref.triangles);
+      // The isosurface package's marching cubes on the same samples: same number of triangles for a
+      // surface without ambiguous faces (common practice: its output is an oracle for plain cases).
+      const grid = parseNpy(new Uint8Array(readFileSync(fixturePath(fx.file))), fx.file);
+      const [nz, ny, nx] = grid.shape as number[];
+      const iso = require('isosurface') as { marchingCubes(d: number[], f: (x: number, y: number, z: number) => number): { cells: number[][] } };
+      const oracle = iso.marchingCubes([nx, ny, nz], (x, y, z) => grid.data[x + nx * (y + ny * z)] as number);
+      console.log(`${fx.id}: isosurface package ${oracle.cells.length} triangles`);
+      expect(report.mesh.triangles).toBe(oracle.cells.length);
+    });
+  }
+});
+
+describe('bake --on-samples: what it does not apply to', () => {
+  test('a recipe has no samples: one clear message, no file', () => {
+    const out = join(dir, 'recipe.glb');
+    const r = runCli(['bake', 'assets/demo/lantern-post.recipe.json', '--on-samples', '--out', out]);
+    expect(r.code).not.toBe(0);
+    expect(r.stderr).toMatch(/--on-samples meshes a dense grid at its own samples; .*recipe field, which has none/);
+    expect(existsSync(out)).toBe(false);
+  });
+  test.skipIf(!hasFixtures)('--depth, --bounds and dual contouring are refused with --on-samples', () => {
+    const out = join(dir, 'x.glb');
+    const grid = fixturePath('sphere_sdf_grid64.npy');
+    expect(runCli(['bake', grid, '--on-samples', '--depth', '8', '--out', out]).stderr).toMatch(/--depth does not apply with --on-samples/);
+    expect(runCli(['bake', grid, '--on-samples', '--bounds=-0.5,-0.5,-0.5,0.5,0.5,0.5', '--out', out]).stderr).toMatch(/--bounds does not apply/);
+    expect(runCli(['bake', grid, '--on-samples', '--method', 'dual-contouring', '--out', out]).stderr).toMatch(/marching cubes only/);
+    expect(existsSync(out)).toBe(false);
+  });
+});
