@@ -61,12 +61,91 @@ export function marchingCubesGrid(values: Float32Array, dims: [number, number, n
   const bx = Math.ceil(cx / B), by = Math.ceil(cy / B), bz = Math.ceil(cz / B);
 
   const active = new Uint8Array(bx * by * bz);
-  const activeBlocks = markActiveBlocks(values, dims, B, options.level, options.kind === 'sdf', active);
+  const activeBlocks = markActiveBlocks(values, dims, B, options.level, options.kind === 'sdf', active, 0, bz);
 
   // Pass 2: march the active blocks layer by layer.
   const marcher = new GridMarcher(values, dims, options, B, activeBlocks * B * B * 2);
   for (let bk = 0; bk < bz; bk++) marcher.layer(active, bk);
   return { mesh: marcher.out.toMesh(), surfaceCells: marcher.surfaceCells, activeBlocks, totalBlocks: bx * by * bz };
+}
+
+/** What {@link marchingCubesGridLayers} returns: one z-range's mesh and the vertices on its two end planes. */
+export interface GridLayersExtraction extends GridExtraction {
+  /**
+   * Vertices this range made on the x and y edges of its bottom plane k = layer0·B: pairs (edge key, vertex
+   * id), edge key = 2·(i + nx·j) + axis (0: x edge, 1: y edge), in edge-key order. Empty when layer0 = 0.
+   */
+  bottomEdges: Int32Array;
+  /** The same for its top plane k = min(layer1·B, nz − 1). Empty when the range ends at the grid's top. */
+  topEdges: Int32Array;
+}
+
+/**
+ * Buffers that {@link marchingCubesGridLayers} may reuse from one call to the next (one call at a time):
+ * filled in and grown by it, kept by the caller. A worker thread that extracts many slabs keeps one, so
+ * its allocator does not hand the memory back and fault it in again per slab (measured on the 2-core VM,
+ * 8 slabs of the 256³ bench lattice in turn on one worker thread: 188–300 ms without, 171–181 ms with;
+ * for the prop, a worker without reuse took 126–195 ms, 41–58 ms with glibc's MALLOC_ARENA_MAX=1).
+ */
+export interface GridLayersScratch {
+  ids?: Int32Array;
+  positions?: Float64Array;
+  indices?: Uint32Array;
+}
+
+/**
+ * Extracts block layers [layer0, layer1) of the grid on their own (block layer = `blockSize` cells in z),
+ * for callers that split the grid into z-slabs (app/node/marching-cubes-grid-parallel.ts runs them on
+ * worker threads). The cells are visited and their vertices numbered exactly as {@link marchingCubesGrid}
+ * does, except that vertices on the bottom plane's edges are made here too (the whole grid would have
+ * taken them from the layer below): concatenating the ranges in order, with each range's `bottomEdges`
+ * replaced by the vertices of the previous range's `topEdges` on the same edge and the remaining ids
+ * renumbered in order, gives the whole grid's mesh byte for byte. Inputs are those of marchingCubesGrid;
+ * `scratch`, when given, lends buffers to reuse (see {@link GridLayersScratch}); the result does not depend on it.
+ *
+ * @example
+ * const lower = marchingCubesGridLayers(values, [65, 65, 65], options, 0, 4);
+ * const upper = marchingCubesGridLayers(values, [65, 65, 65], options, 4, 8); // blockSize 8: 8 layers
+ */
+export function marchingCubesGridLayers(
+  values: Float32Array,
+  dims: [number, number, number],
+  options: MarchingCubesGridOptions,
+  layer0: number,
+  layer1: number,
+  scratch?: GridLayersScratch,
+): GridLayersExtraction {
+  const [nx, ny, nz] = dims;
+  if (nx < 2 || ny < 2 || nz < 2) throw new Error('marchingCubesGridLayers: every axis needs at least 2 samples');
+  if (values.length !== nx * ny * nz) throw new Error(`marchingCubesGridLayers: ${values.length} values for ${nx}×${ny}×${nz} samples`);
+  const B = options.blockSize ?? 8;
+  if (!Number.isInteger(B) || B < 1) throw new Error(`marchingCubesGridLayers: blockSize must be a whole number ≥ 1, got ${B}`);
+  const cx = nx - 1, cy = ny - 1, cz = nz - 1;
+  const bx = Math.ceil(cx / B), by = Math.ceil(cy / B), bz = Math.ceil(cz / B);
+  if (!Number.isInteger(layer0) || !Number.isInteger(layer1) || layer0 < 0 || layer1 > bz || layer0 >= layer1)
+    throw new Error(`marchingCubesGridLayers: block layers [${layer0}, ${layer1}) are not a non-empty range of 0…${bz}`);
+  const active = new Uint8Array(bx * by * bz);
+  const activeBlocks = markActiveBlocks(values, dims, B, options.level, options.kind === 'sdf', active, layer0, layer1);
+  const ringLength = nx * ny * (B + 1) * 3;
+  let marcher: GridMarcher;
+  if (scratch) {
+    // Reuse the caller's buffers: the ring cleared, the mesh buffers overwritten from the start.
+    if (!scratch.ids || scratch.ids.length < ringLength) scratch.ids = new Int32Array(ringLength);
+    else scratch.ids.fill(0, 0, ringLength);
+    marcher = new GridMarcher(values, dims, options, B, scratch.positions ? 0 : activeBlocks * B * B * 2, scratch.ids.subarray(0, ringLength));
+    if (scratch.positions) marcher.out.pos = scratch.positions;
+    if (scratch.indices) marcher.out.idx = scratch.indices;
+  } else marcher = new GridMarcher(values, dims, options, B, activeBlocks * B * B * 2);
+  marcher.layer(active, layer0);
+  // After a layer, `firstPrev` is the vertex count at its start: ids at least that on its planes are its own.
+  const bottomEdges = layer0 > 0 ? marcher.planeEdges(layer0 * B) : new Int32Array(0);
+  for (let bk = layer0 + 1; bk < layer1; bk++) marcher.layer(active, bk);
+  const topEdges = layer1 < bz ? marcher.planeEdges(layer1 * B) : new Int32Array(0);
+  if (scratch) {
+    scratch.positions = marcher.out.pos;
+    scratch.indices = marcher.out.idx;
+  }
+  return { mesh: marcher.out.toMesh(), surfaceCells: marcher.surfaceCells, activeBlocks, totalBlocks: bx * by * bz, bottomEdges, topEdges };
 }
 
 /**
@@ -111,7 +190,7 @@ class GridMarcher {
   firstPrev = 0;
   firstCur = 0;
 
-  constructor(readonly values: Float32Array, dims: [number, number, number], options: MarchingCubesGridOptions, B: number, expectedVertices: number) {
+  constructor(readonly values: Float32Array, dims: [number, number, number], options: MarchingCubesGridOptions, B: number, expectedVertices: number, ids?: Int32Array) {
     const [nx, ny, nz] = dims;
     this.nx = nx;
     this.nxy = nx * ny;
@@ -126,7 +205,7 @@ class GridMarcher {
     this.sdf = options.kind === 'sdf';
     [this.ox, this.oy, this.oz] = options.origin;
     [this.sx, this.sy, this.sz] = options.spacing;
-    this.ids = new Int32Array(this.nxy * this.M * 3);
+    this.ids = ids ?? new Int32Array(this.nxy * this.M * 3);
     this.out = new MeshBuilder(expectedVertices);
     this.edgeSlot = Int32Array.from({ length: 12 }, (_, e) => 3 * ((EDGE_C0[e] & 1) + nx * ((EDGE_C0[e] >> 1) & 1)) + EDGE_AXIS[e]);
   }
@@ -154,6 +233,31 @@ class GridMarcher {
       }
     }
     this.firstPrev = this.firstCur;
+  }
+
+  /**
+   * The vertices the layer just marched made on the x and y edges of its plane k (its bottom or top):
+   * pairs (2·node + axis, id), see {@link GridLayersExtraction}.
+   */
+  planeEdges(k: number): Int32Array {
+    const { ids, nxy, firstPrev } = this;
+    const p = 3 * nxy * (k % this.M);
+    let count = 0;
+    for (let n = 0; n < nxy; n++) {
+      if (ids[p + 3 * n] > firstPrev) count++;
+      if (ids[p + 3 * n + 1] > firstPrev) count++;
+    }
+    const out = new Int32Array(2 * count);
+    let o = 0;
+    for (let n = 0; n < nxy; n++)
+      for (let a = 0; a < 2; a++) {
+        const id = ids[p + 3 * n + a] - 1;
+        if (id >= firstPrev) {
+          out[o++] = 2 * n + a;
+          out[o++] = id;
+        }
+      }
+    return out;
   }
 
   /** Cells i0b ≤ i < i1 of row (j, k), none with a corner on the grid's outer layer. */
@@ -247,11 +351,12 @@ class GridMarcher {
 }
 
 /**
- * Pass 1: sets `active[block]` for the blocks that straddle the level (after forcing the grid's outer
- * layer outside) and returns how many. Each x-row of a plane is read once, in order, and its per-block
- * min/max is folded into the blocks that share it (a row on a block boundary belongs to two).
+ * Pass 1: sets `active[block]` for the blocks of block layers [bk0, bk1) that straddle the level (after
+ * forcing the grid's outer layer outside) and returns how many. Each x-row of a plane is read once, in
+ * order, and its per-block min/max is folded into the blocks that share it (a row on a block boundary
+ * belongs to two).
  */
-function markActiveBlocks(values: Float32Array, dims: [number, number, number], B: number, level: number, sdf: boolean, active: Uint8Array): number {
+function markActiveBlocks(values: Float32Array, dims: [number, number, number], B: number, level: number, sdf: boolean, active: Uint8Array, bk0: number, bk1: number): number {
   const [nx, ny, nz] = dims;
   const cx = nx - 1, cy = ny - 1, cz = nz - 1;
   const bx = Math.ceil(cx / B), by = Math.ceil(cy / B), bz = Math.ceil(cz / B);
@@ -260,7 +365,8 @@ function markActiveBlocks(values: Float32Array, dims: [number, number, number], 
   const lo = new Float64Array(nb).fill(Infinity), hi = new Float64Array(nb).fill(-Infinity);
   const plo = new Float64Array(nb), phi = new Float64Array(nb);
   let count = 0;
-  for (let k = 0; k <= cz; k++) {
+  const k0 = bk0 * B;
+  for (let k = k0, kEnd = Math.min(bk1 * B, cz); k <= kEnd; k++) {
     plo.fill(Infinity);
     phi.fill(-Infinity);
     for (let j = 0; j <= cy; j++) {
@@ -289,7 +395,7 @@ function markActiveBlocks(values: Float32Array, dims: [number, number, number], 
       if (phi[o] > hi[o]) hi[o] = phi[o];
     }
     // Plane k closes block layer bk when it is that layer's top; it then also opens the next layer.
-    if (k > 0 && (k % B === 0 || k === cz)) {
+    if (k > k0 && (k % B === 0 || k === cz)) {
       const bk = Math.ceil(k / B) - 1;
       for (let bj = 0; bj < by; bj++)
         for (let bi = 0; bi < bx; bi++) {

@@ -131,6 +131,9 @@ export interface BakeReport {
     valueRange: [number, number];
     /** Evaluations beyond the sampler's: dual contouring's root finding and gradients. */
     extraEvaluations: number;
+    /** SDF fields: the gradient bound used to skip empty space, and the steepest |Δs|/h measured at the surface (see SurfaceCells). */
+    lipschitz?: number;
+    steepestEdgeSlope?: number;
   };
   mesh: Omit<MeshReport, 'where' | 'perComponent'> & {
     method: MeshingMethod;
@@ -281,6 +284,14 @@ async function bakeStages(field: Field, options: BakeOptions): Promise<BakeResul
       onProgress: progress,
     });
     timings.sample = secs(t);
+    const steep = cells.steepestEdgeSlope ?? 0;
+    if (cells.lipschitz !== undefined && steep > cells.lipschitz) {
+      warn(
+        `the field changes faster than the gradient bound used to skip empty space (${fmt(steep)} against ${fmt(cells.lipschitz)}, ` +
+          `measured along lattice edges at the surface), so a separate piece of surface away from the rest may have been missed; ` +
+          `pass --lipschitz ${fmt(Math.ceil(steep * 1.25 * 10) / 10)} to be safe`,
+      );
+    }
     sampled = {
       cellSize: cells.lattice.cellSize,
       latticeCells: cells.lattice.cells,
@@ -291,13 +302,16 @@ async function bakeStages(field: Field, options: BakeOptions): Promise<BakeResul
       closedAtBounds: cells.closedAtBounds,
       nonFinite: cells.nonFinite,
       valueRange: cells.valueRange,
+      ...(cells.lipschitz !== undefined ? { lipschitz: cells.lipschitz, steepestEdgeSlope: cells.steepestEdgeSlope } : {}),
     };
   }
   const [vmin, vmax] = sampled.valueRange;
   if (sampled.surfaceCells === 0) {
     const range = Number.isFinite(vmin) ? ` (values seen: ${fmt(vmin)} to ${fmt(vmax)})` : '';
     const where = options.onSamples ? 'at its own samples' : `at depth ${depth}`;
-    throw new FieldkilnError(`no surface: the field does not cross level ${fmt(level)} inside the bounds ${where}${range}`);
+    // An SDF steeper than the bound can have its whole surface pruned away: say so.
+    const hint = cells?.lipschitz !== undefined ? `; if the field is steeper than the gradient bound used to skip empty space (${fmt(cells.lipschitz)}), pass a larger --lipschitz` : '';
+    throw new FieldkilnError(`no surface: the field does not cross level ${fmt(level)} inside the bounds ${where}${range}${hint}`);
   }
   if (sampled.closedAtBounds > 0) {
     warn(`the surface leaves the bounds (${sampled.closedAtBounds} samples on the outer layer are inside); it was closed at the bounds, treating outside the bounds as outside`);

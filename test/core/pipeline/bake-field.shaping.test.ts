@@ -103,3 +103,20 @@ describe('bakeField: cleanup', () => {
     await expect(bakeField(torus(), { depth: 4, format: 'fbx' as never })).rejects.toThrow(/unknown output format 'fbx'/);
   });
 });
+
+describe('bakeField: a field steeper than the gradient bound', () => {
+  test('a warning that names the measured slope and a safer --lipschitz', async () => {
+    // 1.6(|p| − r): gradient norm 1.6 everywhere (analytic), pruned with the bound 1.
+    const sd = sphereSdf(0.4);
+    const field = fnField((x, y, z) => 1.6 * sd(x, y, z), [-0.6, -0.6, -0.6, 0.6, 0.6, 0.6], { lipschitz: 1 });
+    const r = await bakeField(field, { depth: 6, skipExport: true });
+    expect(r.report.warnings.join(' ')).toMatch(/changes faster than the gradient bound .*\(1\.\d+ against 1, .*pass --lipschitz 2/);
+    const exact = await bakeField(fnField(sd, field.bounds, { lipschitz: 1 }), { depth: 6, skipExport: true });
+    expect(exact.report.warnings.join(' ')).not.toMatch(/changes faster/);
+  });
+  test('when the bound prunes the whole surface away, the no-surface error says which bound', async () => {
+    const sd = sphereSdf(0.4);
+    const field = fnField((x, y, z) => 40 * sd(x, y, z), [-0.6, -0.6, -0.6, 0.6, 0.6, 0.6], { lipschitz: 1 });
+    await expect(bakeField(field, { depth: 6, skipExport: true })).rejects.toThrow(/no surface: .*steeper than the gradient bound used to skip empty space \(1\), pass a larger --lipschitz/);
+  });
+});

@@ -114,3 +114,19 @@ describe('octree sampling: cost and uneven bounds', () => {
     });
   }
 });
+
+describe('octree sampling: a field steeper than its bound is noticed', () => {
+  test('the steepest surface-cell edge slope: ≤ 1 for an exact SDF, about 1.6 for 1.6 times one', async () => {
+    // |p| − r is 1-Lipschitz; 1.6(|p| − r) has gradient norm 1.6 everywhere (analytic). Pruned with a
+    // bound of 1 it still reaches the surface here (the flood fill follows it), and the slope says so.
+    const exact = await sampleOctree(fnField(sphereSdf(0.4), [-0.6, -0.6, -0.6, 0.6, 0.6, 0.6], { lipschitz: 1 }), { depth: 6 });
+    expect(exact.steepestEdgeSlope).toBeLessThanOrEqual(1 + 1e-5);
+    expect(exact.steepestEdgeSlope).toBeGreaterThan(0.9); // an axis-aligned edge across the surface near a pole
+    const sd = sphereSdf(0.4);
+    const steep = await sampleOctree(fnField((x, y, z) => 1.6 * sd(x, y, z), [-0.6, -0.6, -0.6, 0.6, 0.6, 0.6], { lipschitz: 1 }), { depth: 6 });
+    expect(steep.count).toBe(exact.count); // same zero set, same lattice
+    expect(steep.lipschitz).toBe(1);
+    expect(steep.steepestEdgeSlope).toBeGreaterThan(1.45);
+    expect(steep.steepestEdgeSlope).toBeLessThanOrEqual(1.6 + 1e-5);
+  });
+});
