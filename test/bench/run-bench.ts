@@ -121,14 +121,16 @@ results.grids = [];
 for (const n of no512 ? [128, 256] : [128, 256, 512])
   for (const shape of ['sphere', 'lattice', 'prop']) results.grids.push(runCase({ type: 'grid', shape, n, isosurface: n <= 128 }));
 table(
-  'Dense grids: million voxels per second, single-threaded, best of 5 (same values, same run; ours after 3 warm-up calls)',
-  ['grid', 'ours', 'ours 1st call', 'vtkFlyingEdges3D', 'ours/vtk', 'isosurface pkg', 'ours tris', 'vtk tris', 'ours χ', 'vtk χ', 'blocks touched', 'grid made in', 'peak RSS'],
+  'Dense grids: million voxels per second, best of 5 (same values, same run; ours after 3 warm-up calls; "ours" and VTK single-threaded, "all cores" = ours on worker threads, values already in shared memory)',
+  ['grid', 'ours', 'ours 1st call', 'vtkFlyingEdges3D', 'ours/vtk', 'ours, all cores', 'all cores/vtk', 'isosurface pkg', 'ours tris', 'vtk tris', 'ours χ', 'vtk χ', 'blocks touched', 'grid made in', 'peak RSS'],
   results.grids.map((r) => {
-    const o = (r.ours ?? {}) as Row, v = (r.vtk ?? {}) as Row, i = (r.isosurface ?? {}) as Row;
+    const o = (r.ours ?? {}) as Row, v = (r.vtk ?? {}) as Row, i = (r.isosurface ?? {}) as Row, p = (r.oursParallel ?? {}) as Row;
     const s = r.spec as Row;
     return [
       `${s.shape} ${s.n}³`, f((o.voxelsPerSecond as number) / 1e6, 1), f((r.voxels as number) / (o.firstCallSeconds as number) / 1e6, 1), v.skipped ? String(v.skipped) : f((v.voxelsPerSecond as number) / 1e6, 1),
-      v.voxelsPerSecond ? `${f((o.voxelsPerSecond as number) / (v.voxelsPerSecond as number))}×` : '—', i.voxelsPerSecond ? f((i.voxelsPerSecond as number) / 1e6, 1) : '—',
+      v.voxelsPerSecond ? `${f((o.voxelsPerSecond as number) / (v.voxelsPerSecond as number))}×` : '—',
+      p.voxelsPerSecond ? `${f((p.voxelsPerSecond as number) / 1e6, 1)} (${p.workers} thr${p.identical ? '' : ', MESH DIFFERS'})` : '—',
+      p.voxelsPerSecond && v.voxelsPerSecond ? `${f((p.voxelsPerSecond as number) / (v.voxelsPerSecond as number))}×` : '—', i.voxelsPerSecond ? f((i.voxelsPerSecond as number) / 1e6, 1) : '—',
       f(o.triangles, 0), f(v.triangles, 0), f(o.euler, 0), f(v.euler, 0), `${o.activeBlocks}/${o.totalBlocks}`, `${f(r.gridSeconds, 0)} s`, mb(r.peakRss),
     ];
   }),

@@ -1,0 +1,347 @@
+/**
+ * Dense-grid marching cubes on all cores, giving the same mesh as core's `marchingCubesGrid` byte for
+ * byte (same positions, same indices, same order).
+ *
+ * - The grid is cut in z into slabs of whole block layers (core's blocks of `blockSize`³ cells). Worker
+ *   threads take slabs from a queue, so a slab with more surface does not hold the others up, and extract
+ *   each with core's `marchingCubesGridLayers`: the same cell order and first-touch vertex numbering as the
+ *   whole-grid pass, plus the vertices each slab made on the edges of its bottom and top planes.
+ * - The calling thread stitches the slabs in order: a slab's bottom-plane vertex is the one the slab below
+ *   made on its top plane for the same edge (the single-threaded pass would have taken it from there), and
+ *   every other vertex gets the next id. Concatenated so, positions and indices equal the whole-grid pass.
+ * - The samples reach the workers through a SharedArrayBuffer. A caller whose array is not shared pays one
+ *   copy per call (reported as `copySeconds`) into a shared buffer kept for the next call (see `spare`);
+ *   {@link shareGridValues} makes a shared copy a caller can keep and pass again.
+ * - The workers are started once and kept (a pool per process, grown on demand), so a call pays only the
+ *   messages. They do not keep the process alive while idle; {@link closeMarchingCubesGridPool} ends them.
+ *
+ * Measured on the shared 2-core VM (256³ bench grids, 2 workers, best of 5, `npm run bench`'s grid case;
+ * the other engineers kept both cores about 85% busy, so figures move by 2× from run to run):
+ * - start-up: 0.09–0.20 s for the pool to start and each worker to answer once; the first real call then
+ *   runs unoptimized code in each worker (0.35–0.95 s on 256³ against 0.09–0.36 s warm).
+ * - stitching on the calling thread: 1 / 6 / 18 ms for prop / sphere / lattice (37 k / 392 k / 1.53 M
+ *   triangles), against 30–90 / 87–93 / 146–161 ms for the whole call.
+ * - copying unshared input: 200–300 ms into a new 64 MB SharedArrayBuffer (new pages are dear on this VM),
+ *   5–6 ms into the kept one.
+ * - workers keep their scratch buffers between slabs (core's GridLayersScratch): a worker thread's
+ *   allocator handed back and re-faulted them per slab (8 lattice slabs in turn in one worker: 188–300 ms
+ *   without, 171–181 ms with).
+ */
+import { existsSync } from 'node:fs';
+import { availableParallelism } from 'node:os';
+import { fileURLToPath } from 'node:url';
+import { Worker } from 'node:worker_threads';
+import type { GridExtraction, MarchingCubesGridOptions } from '../../core/meshing/marching-cubes-grid.js';
+import { FIELD_KINDS } from '../../core/types.js';
+import type { GridSlabReply, GridSlabRequest } from './marching-cubes-grid-worker.js';
+
+const NAME = 'marchingCubesGridParallel';
+
+/** Options for {@link marchingCubesGridParallel} (how to split the work; the mesh does not depend on them). */
+export interface ParallelGridOptions {
+  /** Worker threads to use. Default: `os.availableParallelism()`. */
+  workers?: number;
+  /**
+   * Slabs to cut the grid into (at most one per block layer). Default: 1 for one worker, else
+   * `SLABS_PER_WORKER` per worker.
+   */
+  slabs?: number;
+}
+
+/**
+ * Slabs per worker by default. More slabs even out the load (the tail waits for at most one slab, and a
+ * worker slowed by other processes takes fewer) but each costs clearing a ring of node ids (7 MB for a
+ * 256² plane) and re-reading one plane. Measured on the 2-core VM, 2 workers, 256³ sphere / lattice / prop,
+ * best of 5, ms: 1 per worker 91 / 218 / 74, 2: 92 / 249 / 76, 4: 99 / 231 / 80, 8: 99 / 253 / 44 — no
+ * difference above the noise of the shared machine; 4 kept for uneven grids and uneven cores.
+ */
+export const SLABS_PER_WORKER = 4;
+
+export interface ParallelGridExtraction extends GridExtraction {
+  workers: number;
+  slabs: number;
+  /** Seconds spent copying `values` into shared memory (0 when it already was shared). */
+  copySeconds: number;
+  /** Seconds the calling thread spent stitching the slabs into one mesh. */
+  stitchSeconds: number;
+  /** Seconds the workers spent extracting, summed over slabs (wall time × workers when they never wait). */
+  workerSeconds: number;
+}
+
+/** A copy of `values` in a SharedArrayBuffer, to pass to {@link marchingCubesGridParallel} without a copy per call. */
+export function shareGridValues(values: Float32Array): Float32Array {
+  const shared = new Float32Array(new SharedArrayBuffer(values.byteLength));
+  shared.set(values);
+  return shared;
+}
+
+/**
+ * Extracts the level set of `values` (C order, shape [nz, ny, nx]: x fastest; `dims` = [nx, ny, nz]) on
+ * worker threads. The mesh equals `marchingCubesGrid(values, dims, options).mesh` byte for byte, as do
+ * `surfaceCells`, `activeBlocks` and `totalBlocks`, whatever `parallel` says.
+ *
+ * @example
+ * const { mesh } = await marchingCubesGridParallel(values, [257, 257, 257], { kind: 'sdf', level: 0, origin: [-1, -1, -1], spacing: [h, h, h] });
+ */
+export async function marchingCubesGridParallel(
+  values: Float32Array,
+  dims: [number, number, number],
+  options: MarchingCubesGridOptions,
+  parallel: ParallelGridOptions = {},
+): Promise<ParallelGridExtraction> {
+  if (!(values instanceof Float32Array)) throw new Error(`${NAME}: values must be a Float32Array`);
+  if (!Array.isArray(dims) || dims.length !== 3 || !dims.every((d) => Number.isInteger(d)))
+    throw new Error(`${NAME}: dims must be three whole numbers [nx, ny, nz], got ${JSON.stringify(dims)}`);
+  const [nx, ny, nz] = dims;
+  if (nx < 2 || ny < 2 || nz < 2) throw new Error(`${NAME}: every axis needs at least 2 samples, got ${nx}×${ny}×${nz}`);
+  if (values.length !== nx * ny * nz) throw new Error(`${NAME}: ${values.length} values for ${nx}×${ny}×${nz} samples`);
+  if (!options || !FIELD_KINDS.includes(options.kind)) throw new Error(`${NAME}: options.kind must be one of ${FIELD_KINDS.join(', ')}, got ${JSON.stringify(options?.kind)}`);
+  if (typeof options.level !== 'number') throw new Error(`${NAME}: options.level must be a number`);
+  for (const key of ['origin', 'spacing'] as const) {
+    const a = options[key];
+    if (!Array.isArray(a) || a.length !== 3 || !a.every((x) => typeof x === 'number')) throw new Error(`${NAME}: options.${key} must be three numbers [x, y, z], got ${JSON.stringify(a)}`);
+  }
+  const B = options.blockSize ?? 8;
+  if (!Number.isInteger(B) || B < 1) throw new Error(`${NAME}: blockSize must be a whole number ≥ 1, got ${B}`);
+  const workers = parallel.workers ?? Math.max(1, availableParallelism());
+  if (!Number.isInteger(workers) || workers < 1) throw new Error(`${NAME}: workers must be a whole number ≥ 1, got ${workers}`);
+  const cx = nx - 1, cy = ny - 1, cz = nz - 1;
+  const bx = Math.ceil(cx / B), by = Math.ceil(cy / B), bz = Math.ceil(cz / B);
+  const wanted = parallel.slabs ?? (workers === 1 ? 1 : workers * SLABS_PER_WORKER);
+  if (!Number.isInteger(wanted) || wanted < 1) throw new Error(`${NAME}: slabs must be a whole number ≥ 1, got ${wanted}`);
+  const slabs = Math.min(wanted, bz);
+
+  let copySeconds = 0;
+  let shared = values;
+  let scratch: SharedArrayBuffer | null = null;
+  if (!(values.buffer instanceof SharedArrayBuffer)) {
+    const t0 = performance.now();
+    scratch = takeScratch(values.byteLength);
+    shared = new Float32Array(scratch, 0, values.length);
+    shared.set(values);
+    copySeconds = (performance.now() - t0) / 1000;
+  }
+  // Only what the workers need, as plain data (the caller's object may carry other things).
+  const opts: MarchingCubesGridOptions = { kind: options.kind, level: options.level, origin: [...options.origin], spacing: [...options.spacing], blockSize: B };
+
+  // Slab s covers block layers [edge[s], edge[s + 1]): as even a split of the layers as whole layers allow.
+  const edge = Array.from({ length: slabs + 1 }, (_, s) => Math.round((s * bz) / slabs));
+  const pool = takeWorkers(Math.min(workers, slabs));
+  const replies: SlabResult[] = new Array(slabs);
+  let next = 0;
+  try {
+    await Promise.all(
+      pool.map(async (w) => {
+        try {
+          while (next < slabs) {
+            const s = next++;
+            replies[s] = await w.ask({ values: shared.buffer as SharedArrayBuffer, byteOffset: shared.byteOffset, dims: [nx, ny, nz], options: opts, layer0: edge[s], layer1: edge[s + 1] });
+          }
+        } catch (e) {
+          next = slabs; // the others stop after their current slab
+          throw e;
+        }
+      }),
+    );
+  } finally {
+    releaseWorkers(pool);
+    if (scratch) giveBackScratch(scratch);
+  }
+  const t0 = performance.now();
+  const mesh = stitchSlabs(replies, nx * ny);
+  const stitchSeconds = (performance.now() - t0) / 1000;
+  let surfaceCells = 0, activeBlocks = 0, workerSeconds = 0;
+  for (const r of replies) {
+    surfaceCells += r.surfaceCells;
+    activeBlocks += r.activeBlocks;
+    workerSeconds += r.seconds;
+  }
+  return { mesh, surfaceCells, activeBlocks, totalBlocks: bx * by * bz, workers: pool.length, slabs, copySeconds, stitchSeconds, workerSeconds };
+}
+
+type SlabResult = Extract<GridSlabReply, { positions: Float32Array }>;
+
+/**
+ * Joins the slabs' meshes in z order. Slab s's vertex is either a bottom-plane vertex that slab s − 1 also
+ * made (it takes that vertex's id) or a new one (the next id, in the slab's own order), so ids follow the
+ * whole-grid pass's first-touch order. Its triangles keep their order, renumbered.
+ */
+function stitchSlabs(slabs: SlabResult[], nxy: number): { positions: Float32Array; indices: Uint32Array } {
+  let vertexBound = 0, indexCount = 0;
+  for (const s of slabs) {
+    vertexBound += s.positions.length / 3;
+    indexCount += s.indices.length;
+  }
+  if (slabs.length === 1) return { positions: slabs[0].positions, indices: slabs[0].indices };
+  // Final id of each edge on the shared plane, by edge key (2·node + axis); -1 where none.
+  const below = new Int32Array(2 * nxy).fill(-1);
+  const positions = new Float32Array(3 * (vertexBound - countShared(slabs, nxy)));
+  const indices = new Uint32Array(indexCount);
+  let vOut = 0, iOut = 0;
+  for (let n = 0; n < slabs.length; n++) {
+    const s = slabs[n];
+    const V = s.positions.length / 3;
+    const id = new Int32Array(V).fill(-1);
+    const bottom = s.bottomEdges;
+    for (let q = 0; q < bottom.length; q += 2) {
+      const g = below[bottom[q]];
+      if (g >= 0) id[bottom[q + 1]] = g;
+    }
+    // Clear the plane for the next pair of slabs (only the entries set).
+    if (n > 0) for (let q = 0; q < slabs[n - 1].topEdges.length; q += 2) below[slabs[n - 1].topEdges[q]] = -1;
+    // New vertices in runs between the taken ones.
+    let runStart = 0;
+    for (let v = 0; v <= V; v++) {
+      if (v < V && id[v] < 0) continue;
+      if (v > runStart) {
+        positions.set(s.positions.subarray(3 * runStart, 3 * v), 3 * vOut);
+        for (let u = runStart; u < v; u++) id[u] = vOut++;
+      }
+      runStart = v + 1;
+    }
+    const src = s.indices;
+    for (let t = 0; t < src.length; t++) indices[iOut++] = id[src[t]];
+    const top = s.topEdges;
+    for (let q = 0; q < top.length; q += 2) below[top[q]] = id[top[q + 1]];
+  }
+  return { positions, indices };
+}
+
+/**
+ * Bottom-plane vertices that the slab below also made: all of them in practice (a sign-changing edge on
+ * the plane belongs to a surface cell below it too), but one the slab below lacks would stay a new vertex.
+ */
+function countShared(slabs: SlabResult[], nxy: number): number {
+  const made = new Uint8Array(2 * nxy);
+  let shared = 0;
+  for (let n = 1; n < slabs.length; n++) {
+    const top = slabs[n - 1].topEdges, bottom = slabs[n].bottomEdges;
+    for (let q = 0; q < top.length; q += 2) made[top[q]] = 1;
+    for (let q = 0; q < bottom.length; q += 2) shared += made[bottom[q]];
+    for (let q = 0; q < top.length; q += 2) made[top[q]] = 0;
+  }
+  return shared;
+}
+
+// ---- The worker pool: started once per process, reused by every call. ----
+
+class GridWorker {
+  private readonly worker: Worker;
+  private readonly pending = new Map<number, { resolve: (r: SlabResult) => void; reject: (e: Error) => void }>();
+  private nextId = 1;
+  busy = 0;
+  dead = false;
+
+  constructor() {
+    this.worker = new Worker(workerScript());
+    this.worker.unref();
+    this.worker.on('message', (m: GridSlabReply) => {
+      const p = this.pending.get(m.id);
+      if (!p) return;
+      this.pending.delete(m.id);
+      if ('error' in m) p.reject(new Error(`${NAME}: a worker failed: ${m.error}`));
+      else p.resolve(m);
+    });
+    this.worker.on('error', (e) => this.fail(new Error(`${NAME}: a worker failed: ${e.message}`)));
+    this.worker.on('exit', (code) => this.fail(new Error(`${NAME}: a worker stopped unexpectedly (exit code ${code})`)));
+  }
+
+  ask(job: Omit<GridSlabRequest, 'id'>): Promise<SlabResult> {
+    return new Promise((resolve, reject) => {
+      if (this.dead) return reject(new Error(`${NAME}: a worker stopped unexpectedly`));
+      const id = this.nextId++;
+      this.pending.set(id, { resolve, reject });
+      this.worker.postMessage({ ...job, id } satisfies GridSlabRequest);
+    });
+  }
+
+  ref(on: boolean): void {
+    if (on) this.worker.ref();
+    else this.worker.unref();
+  }
+
+  terminate(): Promise<number> {
+    this.dead = true;
+    return this.worker.terminate();
+  }
+
+  private fail(e: Error): void {
+    this.dead = true;
+    for (const p of this.pending.values()) p.reject(e);
+    this.pending.clear();
+    const at = POOL.indexOf(this);
+    if (at >= 0) POOL.splice(at, 1);
+  }
+}
+
+const POOL: GridWorker[] = [];
+
+/**
+ * The shared copy of the last unshared input, kept for the next call: a large new buffer costs its page
+ * faults on first write, and on the 2-core VM those dominated the copy (a 64 MB copy, 256³ floats: 210–290 ms
+ * into a new SharedArrayBuffer; into a reused one, see the report). Held until the pool is closed; a call
+ * that finds it busy or too small makes its own.
+ */
+let spare: SharedArrayBuffer | null = null;
+
+function takeScratch(bytes: number): SharedArrayBuffer {
+  const s = spare;
+  if (s && s.byteLength >= bytes) {
+    spare = null;
+    return s;
+  }
+  return new SharedArrayBuffer(bytes);
+}
+
+function giveBackScratch(s: SharedArrayBuffer): void {
+  if (!spare || spare.byteLength < s.byteLength) spare = s;
+}
+
+function workerScript(): URL {
+  const here = new URL('./marching-cubes-grid-worker.js', import.meta.url);
+  if (existsSync(fileURLToPath(here))) return here;
+  // Running from the TypeScript sources (tests): use the compiled worker.
+  return new URL('../../build/app/node/marching-cubes-grid-worker.js', import.meta.url);
+}
+
+/** `n` workers of the pool, least busy first, starting more when the pool is smaller; held until released. */
+function takeWorkers(n: number): GridWorker[] {
+  while (POOL.length < n) POOL.push(new GridWorker());
+  const chosen = [...POOL].sort((a, b) => a.busy - b.busy).slice(0, n);
+  for (const w of chosen) if (w.busy++ === 0) w.ref(true);
+  return chosen;
+}
+
+function releaseWorkers(ws: GridWorker[]): void {
+  for (const w of ws) if (--w.busy === 0 && !w.dead) w.ref(false);
+}
+
+/**
+ * Starts the pool's workers up to `workers` and waits until each has answered once (a 2³ grid), so a
+ * caller can pay the start-up before the first real call. Default: `os.availableParallelism()`.
+ */
+export async function startMarchingCubesGridPool(workers = Math.max(1, availableParallelism())): Promise<void> {
+  if (!Number.isInteger(workers) || workers < 1) throw new Error(`startMarchingCubesGridPool: workers must be a whole number ≥ 1, got ${workers}`);
+  const ws = takeWorkers(workers);
+  const tiny = new Float32Array(new SharedArrayBuffer(32));
+  try {
+    await Promise.all(ws.map((w) => w.ask({ values: tiny.buffer as SharedArrayBuffer, byteOffset: 0, dims: [2, 2, 2], options: { kind: 'sdf', level: 0, origin: [0, 0, 0], spacing: [1, 1, 1] }, layer0: 0, layer1: 1 })));
+  } finally {
+    releaseWorkers(ws);
+  }
+}
+
+/**
+ * Ends the pool's workers (a later call starts new ones) and drops the kept copy of unshared input.
+ * Calls in flight fail with a clear error.
+ */
+export async function closeMarchingCubesGridPool(): Promise<void> {
+  spare = null;
+  const ws = POOL.splice(0);
+  await Promise.all(ws.map((w) => w.terminate()));
+}
+
+/** Workers started so far and alive (for tests and the bench). */
+export function marchingCubesGridPoolSize(): number {
+  return POOL.length;
+}
