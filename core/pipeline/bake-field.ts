@@ -11,7 +11,7 @@ import type { Bounds, Logger, MeshData, ProgressFn } from '../types.js';
 import { CancelledError, FieldkilnError, throwIfAborted } from '../types.js';
 import { sampleOctree, SAMPLE_OCTREE_DEFAULTS, type SurfaceCells } from '../sampling/sample-octree.js';
 import { marchingCubes } from '../meshing/marching-cubes.js';
-import { marchingCubesGrid } from '../meshing/marching-cubes-grid.js';
+import { marchingCubesGrid, type GridExtraction, type MarchingCubesGridOptions } from '../meshing/marching-cubes-grid.js';
 import { dualContour } from '../meshing/dual-contouring.js';
 import { findSelfIntersections } from '../checks/find-self-intersections.js';
 import { areaWeightedNormals } from '../normals/area-weighted-normals.js';
@@ -58,6 +58,12 @@ export interface BakeOptions {
    * do not apply. Only for fields with `samples` (grids). Default: false.
    */
   onSamples?: boolean;
+  /**
+   * With `onSamples`: the dense-grid extractor, for a platform that can run it on several threads
+   * (the CLI passes app/node/marching-cubes-grid-parallel.ts); it must return what
+   * {@link marchingCubesGrid} returns. Default: `marchingCubesGrid`, on the calling thread.
+   */
+  gridExtractor?: (values: Float32Array, dims: [number, number, number], options: MarchingCubesGridOptions) => GridExtraction | Promise<GridExtraction>;
   /** Written into the GLB's extras. */
   provenance?: Record<string, unknown>;
   /** Skip writing the GLB (preview). Default: false. */
@@ -134,6 +140,8 @@ export interface BakeReport {
     /** SDF fields: the gradient bound used to skip empty space, and the steepest |Δs|/h measured at the surface (see SurfaceCells). */
     lipschitz?: number;
     steepestEdgeSlope?: number;
+    /** With `onSamples`: threads the grid extractor used (1 on the calling thread). */
+    extractionThreads?: number;
   };
   mesh: Omit<MeshReport, 'where' | 'perComponent'> & {
     method: MeshingMethod;
@@ -258,7 +266,7 @@ async function bakeStages(field: Field, options: BakeOptions): Promise<BakeResul
     timings.sample = secs(t);
     progress('extract', 0);
     t = performance.now();
-    const ex = marchingCubesGrid(g.values, g.dims, { kind: field.kind, level, origin: g.origin, spacing: g.spacing });
+    const ex = await (options.gridExtractor ?? marchingCubesGrid)(g.values, g.dims, { kind: field.kind, level, origin: g.origin, spacing: g.spacing });
     timings.extract = secs(t);
     mesh = ex.mesh;
     sampled = {
@@ -271,6 +279,7 @@ async function bakeStages(field: Field, options: BakeOptions): Promise<BakeResul
       closedAtBounds,
       nonFinite,
       valueRange: [vmin, vmax],
+      extractionThreads: (ex as GridExtraction & { workers?: number }).workers ?? 1,
     };
   } else {
     cells = await sampleOctree(field, {

@@ -3,15 +3,18 @@
  * fixtures' manifest (scikit-image's marching cubes of the very same grid, and the analytic truth), the
  * `isosurface` package on the same samples, and Khronos' glTF-Validator.
  */
-import { existsSync, mkdtempSync, readFileSync, rmSync } from 'node:fs';
+import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { createRequire } from 'node:module';
-import { tmpdir } from 'node:os';
+import { availableParallelism, tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, test } from 'vitest';
 import validator from 'gltf-validator';
 import { runCli } from '../../helpers/run-cli.js';
 import { fixturePath, hasFixtures, loadManifest } from '../../helpers/fixtures.js';
 import { parseNpy } from '../../../core/fields/npy.js';
+import { marchingCubesGrid } from '../../../core/meshing/marching-cubes-grid.js';
+import { analyzeMesh } from '../../../core/checks/analyze-mesh.js';
+import { writeNpyF4 } from '../../helpers/npy-writer.js';
 
 const require = createRequire(import.meta.url);
 let dir: string;
@@ -36,6 +39,7 @@ describe.skipIf(!hasFixtures)('bake --on-samples on the shared grid fixtures', (
       expect(v.issues.numWarnings).toBe(0);
       expect(report.sampling.mode).toBe('samples');
       expect(report.sampling.evaluations).toBe(0); // the samples are read, not evaluated
+      expect(report.sampling.extractionThreads).toBe(1); // small grids stay on the calling thread
       const shape = (fx as unknown as { grid: { shape: number[] } }).grid.shape;
       expect(report.sampling.denseEvaluations).toBe(shape[0] * shape[1] * shape[2]);
       expect(report.mesh.watertight).toBe(true);
@@ -61,6 +65,36 @@ describe.skipIf(!hasFixtures)('bake --on-samples on the shared grid fixtures', (
       expect(report.mesh.triangles).toBe(oracle.cells.length);
     });
   }
+});
+
+describe('bake --on-samples on a grid large enough for every core', () => {
+  test('a 170³ torus grid: the same mesh as the single-threaded extractor, genus 1, area near 4π²Rr', () => {
+    // Torus R = 0.6, r = 0.25 (analytic area 4π²Rr = 5.922 m²), sampled on 170³ nodes over [-1, 1]³:
+    // 4.9 M samples, above the CLI's threshold for the worker threads.
+    const n = 170, h = 2 / (n - 1);
+    const values = new Float32Array(n * n * n);
+    for (let k = 0, q = 0; k < n; k++)
+      for (let j = 0; j < n; j++)
+        for (let i = 0; i < n; i++, q++) {
+          const x = -1 + i * h, y = -1 + j * h, z = -1 + k * h;
+          values[q] = Math.hypot(Math.hypot(x, z) - 0.6, y) - 0.25;
+        }
+    const npy = join(dir, 'torus170.npy');
+    writeFileSync(npy, writeNpyF4([n, n, n], values));
+    writeFileSync(join(dir, 'torus170.json'), JSON.stringify({ kind: 'sdf', bounds: [-1, -1, -1, 1, 1, 1], units: 'm' }));
+    const out = join(dir, 'torus170.glb');
+    const rep = join(dir, 'torus170.report.json');
+    const r = runCli(['bake', npy, '--on-samples', '--out', out, '--report', rep, '--quiet']);
+    expect(r.code, r.stderr).toBe(0);
+    const report = JSON.parse(readFileSync(rep, 'utf8'));
+    const single = analyzeMesh(marchingCubesGrid(values, [n, n, n], { kind: 'sdf', level: 0, origin: [-1, -1, -1], spacing: [h, h, h] }).mesh);
+    if (availableParallelism() > 1) expect(report.sampling.extractionThreads).toBe(availableParallelism()); // every core
+    expect(report.mesh.triangles).toBe(single.triangles);
+    expect(report.mesh.vertices).toBe(single.vertices);
+    expect(report.mesh.genus).toBe(1);
+    expect(report.mesh.watertight).toBe(true);
+    expect(Math.abs(report.mesh.area / (4 * Math.PI ** 2 * 0.6 * 0.25) - 1)).toBeLessThan(0.005);
+  });
 });
 
 describe('bake --on-samples: what it does not apply to', () => {
