@@ -15,8 +15,8 @@
  * - The workers are started once and kept (a pool per process, grown on demand), so a call pays only the
  *   messages. They do not keep the process alive while idle; {@link closeMarchingCubesGridPool} ends them.
  *
- * Measured on the shared 2-core VM (256³ bench grids, 2 workers, best of 5, `npm run bench`'s grid case;
- * the other engineers kept both cores about 85% busy, so figures move by 2× from run to run):
+ * Measured on the 2-core VM (256³ bench grids, 2 workers, best of 5, `npm run bench`'s grid case; the
+ * cores were busy with other work at the time, so figures move by 2× from run to run):
  * - start-up: 0.09–0.20 s for the pool to start and each worker to answer once; the first real call then
  *   runs unoptimized code in each worker (0.35–0.95 s on 256³ against 0.09–0.36 s warm).
  * - stitching on the calling thread: 1 / 6 / 18 ms for prop / sphere / lattice (37 k / 392 k / 1.53 M

@@ -99,8 +99,13 @@ export class TriangleGrid {
     return c < 0 ? 0 : c >= this.dims[axis] ? this.dims[axis] - 1 : c;
   }
 
-  /** Distance from (x, y, z) to the nearest point of the mesh, metres. */
-  distance(x: number, y: number, z: number): number {
+  /**
+   * Distance from (x, y, z) to the nearest point of the mesh, metres. With `enough` > 0 the search
+   * stops at the first triangle within `enough` and returns that triangle's distance (≤ `enough`, not
+   * necessarily the nearest): what a running maximum needs, since such a point cannot raise it.
+   */
+  distance(x: number, y: number, z: number, enough = 0): number {
+    const enough2 = enough * enough;
     const [nx, ny, nz] = this.dims;
     const { start, items, boxes: b, p, idx } = this;
     const ci = this.cellOf(x, 0), cj = this.cellOf(y, 1), ck = this.cellOf(z, 2);
@@ -123,7 +128,10 @@ export class TriangleGrid {
               const dz = z < b[o + 2] ? b[o + 2] - z : z > b[o + 5] ? z - b[o + 5] : 0;
               if (dx * dx + dy * dy + dz * dz >= best) continue;
               const d2 = pointTriangleDistance2(x, y, z, p, idx[3 * t], idx[3 * t + 1], idx[3 * t + 2]);
-              if (d2 < best) best = d2;
+              if (d2 < best) {
+                best = d2;
+                if (best <= enough2) return Math.sqrt(best);
+              }
             }
           }
         }

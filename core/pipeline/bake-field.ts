@@ -24,6 +24,7 @@ import { removeDegenerateTriangles, type DegenerateTrianglesRemoved } from '../c
 import { fieldGradientNormals, FIELD_GRADIENT_NORMALS_DEFAULTS } from '../normals/field-gradient-normals.js';
 import { decimateMesh, type DecimateResult } from '../decimate/decimate-mesh.js';
 import { buildLods } from '../decimate/build-lods.js';
+import { TriangleGrid } from '../decimate/triangle-grid.js';
 import { bakeVertexColors } from '../color/bake-vertex-colors.js';
 import { exportMesh, isGltfFormat, EXPORT_FORMATS, type ExportFormat } from '../export/export-mesh.js';
 import { WRITE_GLB_DEFAULTS } from '../export/write-glb.js';
@@ -403,15 +404,17 @@ async function bakeStages(field: Field, options: BakeOptions): Promise<BakeResul
     t = performance.now();
     if (colored) full.colors = clamp01(await field.evaluateColor!(full.positions, options.signal));
     const inputReport = analyzeMesh(full);
+    // Every level is measured against the full mesh: one distance grid over it serves them all.
+    const inputGrid = new TriangleGrid(full);
     if (shaping.budget > 0) {
-      const d = await decimateMesh(full, { targetTriangles: shaping.budget, inputReport });
+      const d = await decimateMesh(full, { targetTriangles: shaping.budget, inputReport, inputGrid });
       base = d.mesh;
       Object.assign(decimation, { targetTriangles: shaping.budget, triangles: d.triangles, maxError: d.maxError, attempts: d.attempts.length });
       d.warnings.forEach(warn);
     }
     if (shaping.lods > 0) {
       progress('decimate', 0.5);
-      lodResults = await buildLods(full, base.indices.length / 3, shaping.lods, { inputReport });
+      lodResults = await buildLods(full, base.indices.length / 3, shaping.lods, { inputReport, inputGrid });
       lodResults.forEach((l) => l.warnings.forEach(warn));
       if (lodResults.length === 0) warn(`no LODs were made: the base level is too small to halve`);
     }

@@ -22,6 +22,25 @@ describe('TriangleGrid', () => {
     }
   });
 
+  test('with `enough`, a point within it stops early at some triangle that close; beyond it, the exact distance', async () => {
+    const m = marchingCubes(await sampleOctree(fnField(sphereSdf(0.5), [-0.75, -0.75, -0.75, 0.75, 0.75, 0.75]), { depth: 5, level: 0 }));
+    const grid = new TriangleGrid(m);
+    const ref = bvhDistance(m); // source: three-mesh-bvh closestPointToPoint
+    let seed = 11;
+    const rnd = () => ((seed = (seed * 16807) % 2147483647) / 2147483647) * 2 - 1;
+    for (let i = 0; i < 1000; i++) {
+      const [x, y, z] = [rnd() * 0.8, rnd() * 0.8, rnd() * 0.8];
+      const d = ref(x, y, z);
+      const enough = 0.05;
+      const got = grid.distance(x, y, z, enough);
+      if (d > enough) expect(got).toBeCloseTo(d, 6);
+      else {
+        expect(got).toBeLessThanOrEqual(enough + 1e-9);
+        expect(got).toBeGreaterThanOrEqual(d - 1e-9);
+      }
+    }
+  });
+
   test('point–triangle distance: the regions of a right triangle (hand-computed)', () => {
     //  (0,1,0)
     //    |\
@@ -51,5 +70,7 @@ describe('measureDeviation', () => {
     // The big one's corner (1.1, 0, 0) is nearest the small one's corner (1, 0, 0): 0.1.
     expect(d.bToA).toBeCloseTo(0.1, 6);
     expect(d.max).toBe(Math.max(d.aToB, d.bToA));
+    // The same answer with a grid of the first mesh built beforehand (the pipeline shares one across LODs).
+    expect(measureDeviation(o, big, new TriangleGrid(o))).toEqual(d);
   });
 });
