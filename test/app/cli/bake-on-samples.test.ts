@@ -97,6 +97,39 @@ describe('bake --on-samples on a grid large enough for every core', () => {
   });
 });
 
+describe('bake --on-samples: a density grid, and a sample that is not a number', () => {
+  test('density (inside where high) meshes the same ball; a NaN sample is refused by default, outside with --nonfinite outside', () => {
+    // density = 40·sigmoid(−(|p| − 0.6)/0.05), level 20: a ball of radius 0.6 (area 4π·0.36 = 4.524 m², analytic).
+    const n = 48, h = 2 / (n - 1);
+    const values = new Float32Array(n * n * n);
+    for (let k = 0, q = 0; k < n; k++)
+      for (let j = 0; j < n; j++)
+        for (let i = 0; i < n; i++, q++) values[q] = 40 / (1 + Math.exp((Math.hypot(-1 + i * h, -1 + j * h, -1 + k * h) - 0.6) / 0.05));
+    const write = (name: string, v: Float32Array) => {
+      writeFileSync(join(dir, `${name}.npy`), writeNpyF4([n, n, n], v));
+      writeFileSync(join(dir, `${name}.json`), JSON.stringify({ kind: 'density', bounds: [-1, -1, -1, 1, 1, 1], level: 20, units: 'm' }));
+      return join(dir, `${name}.npy`);
+    };
+    const rep = join(dir, 'dens.report.json');
+    const ok = runCli(['bake', write('dens', values), '--on-samples', '--out', join(dir, 'dens.glb'), '--report', rep, '--quiet']);
+    expect(ok.code, ok.stderr).toBe(0);
+    const report = JSON.parse(readFileSync(rep, 'utf8'));
+    expect(report.mesh.watertight).toBe(true);
+    expect(report.mesh.genus).toBe(0);
+    expect(Math.abs(report.mesh.area / (4 * Math.PI * 0.36) - 1)).toBeLessThan(0.01);
+    const holed = values.slice();
+    holed[n * n * 3 + n * 3 + 3] = NaN; // well outside the ball
+    const bad = write('holed', holed);
+    const refused = runCli(['bake', bad, '--on-samples', '--out', join(dir, 'holed.glb')]);
+    expect(refused.code).not.toBe(0);
+    expect(refused.stderr).toMatch(/the grid holds 1 non-finite samples .*--nonfinite outside/);
+    expect(existsSync(join(dir, 'holed.glb'))).toBe(false);
+    const taken = runCli(['bake', bad, '--on-samples', '--nonfinite', 'outside', '--out', join(dir, 'holed.glb'), '--quiet']);
+    expect(taken.code, taken.stderr).toBe(0);
+    expect(taken.stderr).toMatch(/1 samples were NaN or ±Inf and were treated as outside/);
+  });
+});
+
 describe('bake --on-samples: what it does not apply to', () => {
   test('a recipe has no samples: one clear message, no file', () => {
     const out = join(dir, 'recipe.glb');
