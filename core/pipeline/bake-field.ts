@@ -295,7 +295,9 @@ async function bakeStages(field: Field, options: BakeOptions): Promise<BakeResul
     });
     timings.sample = secs(t);
     const steep = cells.steepestEdgeSlope ?? 0;
-    if (cells.lipschitz !== undefined && steep > cells.lipschitz) {
+    // 1% leeway: an exact distance field measures a hair over its bound from float32 rounding of sample
+    // positions and values (1.00001 on the demo recipes; at depth 12 over 1 m a float32 step is ~0.05% of a cell).
+    if (cells.lipschitz !== undefined && steep > cells.lipschitz * 1.01) {
       warn(
         `the field changes faster than the gradient bound used to skip empty space (${fmt(steep)} against ${fmt(cells.lipschitz)}, ` +
           `measured along lattice edges at the surface), so a separate piece of surface away from the rest may have been missed; ` +

@@ -8,6 +8,9 @@ import { readGltfMeshes } from '../../../core/import/read-gltf-meshes.js';
 import { analyzeMesh } from '../../../core/checks/analyze-mesh.js';
 import type { Bounds } from '../../../core/types.js';
 import { fnField, sphereSdf, torusSdf } from '../../helpers/analytic-fields.js';
+import { resolve } from 'node:path';
+import { openField } from '../../../app/fields/open-field.js';
+import { REPO_ROOT } from '../../helpers/fixtures.js';
 
 const TORUS_BOUNDS: Bounds = [-1, -0.4, -1, 1, 0.4, 1];
 const torus = () => fnField(torusSdf(0.6, 0.2), TORUS_BOUNDS, { color: (_x, y) => [0.5 + y, 0.3, 0.2], name: 'torus' });
@@ -113,6 +116,12 @@ describe('bakeField: a field steeper than the gradient bound', () => {
     expect(r.report.warnings.join(' ')).toMatch(/changes faster than the gradient bound .*\(1\.\d+ against 1, .*pass --lipschitz 2/);
     const exact = await bakeField(fnField(sd, field.bounds, { lipschitz: 1 }), { depth: 6, skipExport: true });
     expect(exact.report.warnings.join(' ')).not.toMatch(/changes faster/);
+    // The demo recipes are exact distance fields (bound 1) that measure 1.00001 from float32 rounding: no warning.
+    const stool = await openField(resolve(REPO_ROOT, 'assets/demo/round-stool.recipe.json'));
+    const r2 = await bakeField(stool, { depth: 7, skipExport: true });
+    await stool.dispose?.();
+    expect(r2.report.sampling.steepestEdgeSlope).toBeGreaterThan(0.99);
+    expect(r2.report.warnings.join(' ')).not.toMatch(/changes faster/);
   });
   test('when the bound prunes the whole surface away, the no-surface error says which bound', async () => {
     const sd = sphereSdf(0.4);
