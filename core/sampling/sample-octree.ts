@@ -341,37 +341,44 @@ export async function sampleOctree(field: Field, options: SampleOctreeOptions = 
       const S = 2 ** (depth - lev);
       // Level d − 1's centres are corners of the finest cells, so they go through the node store; the
       // centres of coarser levels are evaluated directly and only the survivors' are kept (only those
-      // can be corners of finest cells that are asked for later).
-      const keep = lev === depth - 1;
+      // can be corners of finest cells that are asked for later, and an unclipped centre belongs to one
+      // box of one level). Clipped boxes' nodes can be shared, so they go through the store too.
+      const last = lev === depth - 1;
       const boxes = new IntList(active.length * 3);
+      // Per box: a slot in the node store (level d − 1, and boxes clipped by the lattice's far edges,
+      // whose nodes other boxes and levels can share), or −1 − (its index in `direct`).
       const probe = new IntList(active.length);
+      const direct = new IntList(active.length);
       const a3 = active.data;
       for (let a = 0; a < active.length; a += 3) {
         const x0 = a3[a] * S, y0 = a3[a + 1] * S, z0 = a3[a + 2] * S;
         const x1 = Math.min(x0 + S, nx), y1 = Math.min(y0 + S, ny), z1 = Math.min(z0 + S, nz);
         if (x0 >= x1 || y0 >= y1 || z0 >= z1) continue;
         const px = (x0 + x1) >> 1, py = (y0 + y1) >> 1, pz = (z0 + z1) >> 1;
-        if (keep) probe.push(sampler.request(px, py, pz));
-        else probe.push3(px, py, pz);
+        const clipped = x1 - x0 < S || y1 - y0 < S || z1 - z0 < S;
+        if (last || clipped) probe.push(sampler.request(px, py, pz));
+        else {
+          probe.push(-1 - direct.length / 3);
+          direct.push3(px, py, pz);
+        }
         boxes.push3(x0, y0, z0);
         boxes.push3(x1, y1, z1);
         boxes.push3(a3[a], a3[a + 1], a3[a + 2]);
       }
-      let values: Float32Array;
-      if (keep) await sampler.flush();
-      else values = await sampler.evaluateAt(probe.data, probe.length / 3);
+      await sampler.flush();
+      const values = await sampler.evaluateAt(direct.data, direct.length / 3);
       const next = new IntList(active.length * 4);
       const b9 = boxes.data;
-      const vals = nodes.vals;
       for (let b = 0, c = 0; b < boxes.length; b += 9, c++) {
         const x0 = b9[b], y0 = b9[b + 1], z0 = b9[b + 2], x1 = b9[b + 3], y1 = b9[b + 4], z1 = b9[b + 5];
-        const s = keep ? vals[probe.data[c]] : values![c];
+        const slot = probe.data[c];
+        const s = slot >= 0 ? nodes.vals[slot] : values[-1 - slot];
         const px = (x0 + x1) >> 1, py = (y0 + y1) >> 1, pz = (z0 + z1) >> 1;
         const dx = Math.max(px - x0, x1 - px), dy = Math.max(py - y0, y1 - py), dz = Math.max(pz - z0, z1 - pz);
         const reach = h * Math.sqrt(dx * dx + dy * dy + dz * dz);
         const touches = x0 === 0 || y0 === 0 || z0 === 0 || x1 === nx || y1 === ny || z1 === nz;
         if (!(Math.abs(s) <= L * reach || (s < 0 && touches))) continue;
-        if (!keep) sampler.remember(px, py, pz, s);
+        if (slot < 0) sampler.remember(px, py, pz, s);
         const ci = b9[b + 6] * 2, cj = b9[b + 7] * 2, ck = b9[b + 8] * 2;
         for (let q = 0; q < 8; q++) next.push3(ci + (q & 1), cj + ((q >> 1) & 1), ck + ((q >> 2) & 1));
       }

@@ -105,7 +105,17 @@ describe('octree sampling: cost and uneven bounds', () => {
       const sd = sphereSdf(0.42);
       const b = [-0.6, -0.4, -0.5, 0.55, 0.4, 0.45] as [number, number, number, number, number, number];
       const field = kind === 'sdf' ? fnField(sd, b) : fnField((x, y, z) => -sd(x, y, z), b, { kind: 'density', level: 0 });
-      const sparse = await sampleOctree(field, { depth: 6 });
+      // Every point the sampler asks for is asked once (clipped coarse cells included).
+      const asked = new Set<string>();
+      let total = 0;
+      const counting = Object.create(field) as typeof field;
+      counting.evaluate = async (p: Float32Array) => {
+        for (let i = 0; i < p.length; i += 3, total++) asked.add(`${p[i]},${p[i + 1]},${p[i + 2]}`);
+        return field.evaluate(p);
+      };
+      const sparse = await sampleOctree(counting, { depth: 6 });
+      expect(total).toBe(sparse.evaluations);
+      expect(asked.size).toBe(total);
       const dense = await sampleDense(field, { depth: 6 });
       expect(sparse.lattice.cells).toEqual(dense.lattice.cells);
       expect(Array.from(sparse.coords)).toEqual(Array.from(dense.coords));
