@@ -4,7 +4,7 @@
  * Prints tables and writes bench-results/bench.json (git-ignored).
  *
  * Options: --quick (depth 7 and the 128³/256³ grids only), --no-512 (skip the 512³ grids),
- * --only=inference,fixtures,usual,recipe,grids (run only those sections).
+ * --only=inference,fixtures,usual,recipe,grids (run only those sections; written to bench-<sections>.json).
  */
 import { spawnSync } from 'node:child_process';
 import { existsSync, mkdirSync, writeFileSync } from 'node:fs';
@@ -118,7 +118,7 @@ results.grids = [];
 // Each 512³ case makes its grid on every core through the field worker pool. Measured on the shared
 // 2-core machine (load ≈ 4): grid 23 s / 58 s / 174 s for sphere / prop / lattice, whole case 54 s / 75 s /
 // 219 s, peak 1.7 GB (the grid, VTK's copy, and the meshes).
-for (const n of no512 ? [128, 256] : [128, 256, 512])
+if (want('grids')) for (const n of no512 ? [128, 256] : [128, 256, 512])
   for (const shape of ['sphere', 'lattice', 'prop']) results.grids.push(runCase({ type: 'grid', shape, n, isosurface: n <= 128 }));
 table(
   'Dense grids: million voxels per second, best of 5 (same values, same run; ours after 3 warm-up calls; "ours" and VTK single-threaded, "all cores" = ours on worker threads, values already in shared memory)',
@@ -137,6 +137,6 @@ table(
 );
 
 mkdirSync(resolve(ROOT, 'bench-results'), { recursive: true });
-const out = resolve(ROOT, 'bench-results', 'bench.json');
+const out = resolve(ROOT, 'bench-results', only ? `bench-${only.join('-')}.json` : 'bench.json');
 writeFileSync(out, JSON.stringify({ date: new Date().toISOString(), node: process.version, results }, null, 2));
 console.log(`\nwrote ${out}`);
