@@ -17,6 +17,7 @@ import { analyzeMesh } from '../../core/checks/analyze-mesh.js';
 import { latticeNodePoints, makeLattice } from '../../core/sampling/lattice.js';
 import type { Field } from '../../core/fields/field.js';
 import { makeBenchGrid, type BenchShape } from './bench-grids.js';
+import { surfaceCellCorners } from '../helpers/surface-cell-corners.js';
 
 const require = createRequire(import.meta.url);
 const ROOT = resolve(new URL('.', import.meta.url).pathname, '..', '..', '..');
@@ -84,17 +85,8 @@ async function run(spec: Spec): Promise<Record<string, unknown>> {
     const seconds = (performance.now() - t0) / 1000;
     const a = analyzeMesh(mesh);
     await field.dispose?.();
-    // The least any method that contours these cells must evaluate: the distinct corners of the surface cells.
-    const [nx, ny] = cells.lattice.cells;
-    const corners = new Float64Array(cells.count * 8);
-    for (let r = 0; r < cells.count; r++) {
-      const i = cells.coords[3 * r], j = cells.coords[3 * r + 1], k = cells.coords[3 * r + 2];
-      for (let q = 0; q < 8; q++) corners[8 * r + q] = i + (q & 1) + (nx + 1) * (j + ((q >> 1) & 1) + (ny + 1) * (k + ((q >> 2) & 1)));
-    }
-    corners.sort();
-    let least = 0;
-    for (let q = 0; q < corners.length; q++) if (q === 0 || corners[q] !== corners[q - 1]) least++;
-    return { seconds, evaluations: cells.evaluations, surfaceCellCorners: least, triangles: a.triangles, area: a.area };
+    // The least any method that contours these cells must evaluate.
+    return { seconds, evaluations: cells.evaluations, surfaceCellCorners: surfaceCellCorners(cells), triangles: a.triangles, area: a.area };
   }
   if (spec.type === 'usual') {
     const field = await openField(resolve(ROOT, spec.file));
@@ -125,18 +117,10 @@ async function run(spec: Spec): Promise<Record<string, unknown>> {
     // so the usual way's estimate is a lower bound).
     const lat = makeLattice(field.bounds, spec.depth);
     const [nx, ny, nz] = lat.cells;
-    const pts = new Float32Array((nx + 1) * (ny + 1) * 3);
     const t1 = performance.now();
     for (let s = 0; s < spec.slabs; s++) {
       const k = Math.floor(((s + 0.5) * (nz + 1)) / spec.slabs);
-      let q = 0;
-      for (let j = 0; j <= ny; j++)
-        for (let i = 0; i <= nx; i++) {
-          pts[q++] = lat.origin[0] + i * lat.cellSize;
-          pts[q++] = lat.origin[1] + j * lat.cellSize;
-          pts[q++] = lat.origin[2] + k * lat.cellSize;
-        }
-      await field.evaluate(pts);
+      await field.evaluate(latticeNodePoints(lat, k, k));
     }
     const per = (performance.now() - t1) / 1000 / spec.slabs;
     await field.dispose?.();

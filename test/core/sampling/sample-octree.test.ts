@@ -9,6 +9,7 @@ import { sampleDense } from '../../../core/sampling/sample-dense.js';
 import type { Field } from '../../../core/fields/field.js';
 import { fixturePath, hasFixtures, loadManifest } from '../../helpers/fixtures.js';
 import { fnField, sphereSdf } from '../../helpers/analytic-fields.js';
+import { surfaceCellCorners } from '../../helpers/surface-cell-corners.js';
 
 describe.skipIf(!hasFixtures)('octree sampling against dense evaluation (shared fixtures)', () => {
   const opened: Field[] = [];
@@ -78,22 +79,11 @@ describe('octree sampling on analytic fields', () => {
 });
 
 describe('octree sampling: cost and uneven bounds', () => {
-  /** Distinct corners of the surface cells: what any method that contours these cells must evaluate. */
-  function surfaceCorners(c: Awaited<ReturnType<typeof sampleOctree>>): number {
-    const [nx, ny] = c.lattice.cells;
-    const seen = new Set<number>();
-    for (let r = 0; r < c.count; r++) {
-      const i = c.coords[3 * r], j = c.coords[3 * r + 1], k = c.coords[3 * r + 2];
-      for (let q = 0; q < 8; q++) seen.add(i + (q & 1) + (nx + 1) * (j + ((q >> 1) & 1) + (ny + 1) * (k + ((q >> 2) & 1))));
-    }
-    return seen.size;
-  }
-
   test('an exact sphere SDF at depth 8 costs under 1.6× the corners of its surface cells', async () => {
     // |p| − r is 1-Lipschitz (a distance function), so L = 1 is exact here.
     const field = fnField(sphereSdf(0.45), [-0.6, -0.6, -0.6, 0.6, 0.6, 0.6], { lipschitz: 1 });
     const cells = await sampleOctree(field, { depth: 8 });
-    const least = surfaceCorners(cells);
+    const least = surfaceCellCorners(cells);
     console.log(`sphere depth 8: ${cells.evaluations} evaluations, ${least} surface-cell corners (${(cells.evaluations / least).toFixed(2)}×)`);
     expect(cells.evaluations).toBeLessThan(1.6 * least);
   });
