@@ -62,3 +62,18 @@ export function boundsProblem(b: readonly number[]): string | null {
   }
   return null;
 }
+
+/**
+ * The box of a flat list of positions (3 floats each): [xmin, ymin, zmin, xmax, ymax, zmax]. Empty (or
+ * all-NaN) input gives +Infinity lows and −Infinity highs; NaN coordinates are skipped.
+ */
+export function positionBounds(p: ArrayLike<number>): Bounds {
+  const b: Bounds = [Infinity, Infinity, Infinity, -Infinity, -Infinity, -Infinity];
+  for (let i = 0; i + 2 < p.length; i += 3) {
+    for (let a = 0; a < 3; a++) {
+      if (p[i + a] < b[a]) b[a] = p[i + a];
+      if (p[i + a] > b[a + 3]) b[a + 3] = p[i + a];
+    }
+  }
+  return b;
+}

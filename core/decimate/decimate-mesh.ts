@@ -38,7 +38,7 @@
  * sampled at vertices and triangle centroids of both (`measure-deviation.ts`).
  */
 import { MeshoptSimplifier } from 'meshoptimizer';
-import type { MeshData } from '../types.js';
+import { positionBounds, type MeshData } from '../types.js';
 import { analyzeMesh, type MeshReport } from '../checks/analyze-mesh.js';
 import type { TriangleGrid } from './triangle-grid.js';
 import { compactMesh } from '../cleanup/compact-mesh.js';
@@ -220,13 +220,6 @@ export function topologyProblem(before: MeshReport, after: MeshReport): string |
 }
 
 function extent(p: Float32Array): number {
-  const lo = [Infinity, Infinity, Infinity];
-  const hi = [-Infinity, -Infinity, -Infinity];
-  for (let i = 0; i < p.length; i += 3) {
-    for (let a = 0; a < 3; a++) {
-      if (p[i + a] < lo[a]) lo[a] = p[i + a];
-      if (p[i + a] > hi[a]) hi[a] = p[i + a];
-    }
-  }
-  return Math.hypot(hi[0] - lo[0], hi[1] - lo[1], hi[2] - lo[2]) || 1;
+  const b = positionBounds(p);
+  return Math.hypot(b[3] - b[0], b[4] - b[1], b[5] - b[2]) || 1;
 }

@@ -10,7 +10,7 @@
  * Precision: positions to (half edge) / 32 767, e.g. 15 µm on a 1 m prop; normals and tangents to
  * 1/127 per component (under 0.5°); colors to 1/255; UVs to 1/65 535.
  */
-import type { MeshData } from '../types.js';
+import { positionBounds, type MeshData } from '../types.js';
 
 /** A quantized mesh and the node transform that restores metres. */
 export interface QuantizedMesh {
@@ -35,14 +35,8 @@ export interface QuantizedMesh {
 export function quantizeMesh(mesh: MeshData): QuantizedMesh {
   const p = mesh.positions;
   const V = p.length / 3;
-  const lo = [Infinity, Infinity, Infinity];
-  const hi = [-Infinity, -Infinity, -Infinity];
-  for (let i = 0; i < p.length; i += 3) {
-    for (let a = 0; a < 3; a++) {
-      if (p[i + a] < lo[a]) lo[a] = p[i + a];
-      if (p[i + a] > hi[a]) hi[a] = p[i + a];
-    }
-  }
+  const box = positionBounds(p);
+  const lo = box.slice(0, 3), hi = box.slice(3);
   if (V === 0) lo.fill(0), hi.fill(0);
   // Float32 centre and scale, so the node transform holds exactly the values used here.
   const translation = [0, 1, 2].map((a) => Math.fround((lo[a] + hi[a]) / 2)) as [number, number, number];
