@@ -54,9 +54,7 @@ export interface GridExtraction {
  */
 export function marchingCubesGrid(values: Float32Array, dims: [number, number, number], options: MarchingCubesGridOptions): GridExtraction {
   const [nx, ny, nz] = dims;
-  if (nx < 2 || ny < 2 || nz < 2) throw new Error('marchingCubesGrid: every axis needs at least 2 samples');
-  if (values.length !== nx * ny * nz) throw new Error(`marchingCubesGrid: ${values.length} values for ${nx}×${ny}×${nz} samples`);
-  const B = options.blockSize ?? 8;
+  const B = checkGridInput('marchingCubesGrid', values, dims, options);
   const cx = nx - 1, cy = ny - 1, cz = nz - 1;
   const bx = Math.ceil(cx / B), by = Math.ceil(cy / B), bz = Math.ceil(cz / B);
 
@@ -116,10 +114,7 @@ export function marchingCubesGridLayers(
   scratch?: GridLayersScratch,
 ): GridLayersExtraction {
   const [nx, ny, nz] = dims;
-  if (nx < 2 || ny < 2 || nz < 2) throw new Error('marchingCubesGridLayers: every axis needs at least 2 samples');
-  if (values.length !== nx * ny * nz) throw new Error(`marchingCubesGridLayers: ${values.length} values for ${nx}×${ny}×${nz} samples`);
-  const B = options.blockSize ?? 8;
-  if (!Number.isInteger(B) || B < 1) throw new Error(`marchingCubesGridLayers: blockSize must be a whole number ≥ 1, got ${B}`);
+  const B = checkGridInput('marchingCubesGridLayers', values, dims, options);
   const cx = nx - 1, cy = ny - 1, cz = nz - 1;
   const bx = Math.ceil(cx / B), by = Math.ceil(cy / B), bz = Math.ceil(cz / B);
   if (!Number.isInteger(layer0) || !Number.isInteger(layer1) || layer0 < 0 || layer1 > bz || layer0 >= layer1)
@@ -348,6 +343,16 @@ class GridMarcher {
       else out.addFan(starts, loopIds, n);
     }
   }
+}
+
+/** Checks the arguments both entry points share (misuse throws, naming the function); returns the block size. */
+function checkGridInput(name: string, values: Float32Array, dims: [number, number, number], options: MarchingCubesGridOptions): number {
+  const [nx, ny, nz] = dims;
+  if (nx < 2 || ny < 2 || nz < 2) throw new Error(`${name}: every axis needs at least 2 samples`);
+  if (values.length !== nx * ny * nz) throw new Error(`${name}: ${values.length} values for ${nx}×${ny}×${nz} samples`);
+  const B = options.blockSize ?? 8;
+  if (!Number.isInteger(B) || B < 1) throw new Error(`${name}: blockSize must be a whole number ≥ 1, got ${B}`);
+  return B;
 }
 
 /**

@@ -92,6 +92,7 @@ describe('marching cubes on a dense grid', () => {
   test('bad input is refused with the function name', () => {
     expect(() => marchingCubesGrid(new Float32Array(8), [2, 2, 1], { kind: 'sdf', level: 0, origin: [0, 0, 0], spacing: [1, 1, 1] })).toThrow(/^marchingCubesGrid: every axis/);
     expect(() => marchingCubesGrid(new Float32Array(7), [2, 2, 2], { kind: 'sdf', level: 0, origin: [0, 0, 0], spacing: [1, 1, 1] })).toThrow(/^marchingCubesGrid: 7 values/);
+    expect(() => marchingCubesGrid(new Float32Array(8), [2, 2, 2], { kind: 'sdf', level: 0, origin: [0, 0, 0], spacing: [1, 1, 1], blockSize: 0 })).toThrow(/^marchingCubesGrid: blockSize must be a whole number ≥ 1, got 0/);
   });
 
   test('a sphere grid: closed, χ = 2, and only blocks near the surface are touched', async () => {
