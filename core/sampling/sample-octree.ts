@@ -526,6 +526,7 @@ export async function sampleOctree(field: Field, options: SampleOctreeOptions = 
   const coords = new Int32Array(count * 3);
   const corners = new Float32Array(count * 8);
   const vals = nodes.vals;
+  const slots = new Int32Array(8);
   for (let r = 0; r < count; r++) {
     const key = order[r];
     const i = key % nx;
@@ -535,7 +536,8 @@ export async function sampleOctree(field: Field, options: SampleOctreeOptions = 
     coords[3 * r] = i;
     coords[3 * r + 1] = j;
     coords[3 * r + 2] = k;
-    for (let q = 0; q < 8; q++) corners[8 * r + q] = vals[nodes.find(i + (q & 1), j + ((q >> 1) & 1), k + ((q >> 2) & 1))];
+    findCornerSlots(nodes, i, j, k, slots);
+    for (let q = 0; q < 8; q++) corners[8 * r + q] = vals[slots[q]];
     if (sdf && i > 0 && j > 0 && k > 0 && i < nx - 1 && j < ny - 1 && k < nz - 1) {
       for (let e = 0; e < 24; e += 2) {
         const d = Math.abs(corners[8 * r + CELL_EDGE_ENDS[e]] - corners[8 * r + CELL_EDGE_ENDS[e + 1]]);
@@ -580,10 +582,9 @@ async function settleDoubtful(sampler: NodeSampler, cells: IntList, lh: number, 
   const scan = (i: number, j: number, k: number): number => {
     let known = 0, inside = 0;
     const vals = nodes.vals, state = nodes.state;
-    const base = inOneBrick(i, j, k) ? nodes.find(i, j, k) : -1;
+    findCornerSlots(nodes, i, j, k, slots);
     for (let q = 0; q < 8; q++) {
-      const s = base >= 0 ? base + CORNER_SLOT_OFFSET[q] : nodes.find(i + (q & 1), j + ((q >> 1) & 1), k + ((q >> 2) & 1));
-      slots[q] = s;
+      const s = slots[q];
       if (s >= 0 && state[s] === NODE_KNOWN) {
         known |= 1 << q;
         if (vals[s] < 0) inside |= 1 << q;
@@ -641,6 +642,12 @@ const CELL_EDGE_ENDS = Int8Array.from([0, 1, 2, 3, 4, 5, 6, 7, 0, 2, 1, 3, 4, 6,
 function inOneBrick(i: number, j: number, k: number): boolean {
   const m = BRICK_EDGE - 1;
   return (i & m) !== m && (j & m) !== m && (k & m) !== m;
+}
+
+/** Slots of the 8 corners of cell (i, j, k) into `out` (−1 where a corner's brick was never touched). */
+function findCornerSlots(nodes: NodeBricks, i: number, j: number, k: number, out: Int32Array): void {
+  const base = inOneBrick(i, j, k) ? nodes.find(i, j, k) : -1;
+  for (let q = 0; q < 8; q++) out[q] = base >= 0 ? base + CORNER_SLOT_OFFSET[q] : nodes.find(i + (q & 1), j + ((q >> 1) & 1), k + ((q >> 2) & 1));
 }
 
 /** Slot offset of corner q from the cell's lowest corner, inside one brick. */
