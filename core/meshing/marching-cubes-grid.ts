@@ -357,47 +357,58 @@ function checkGridInput(name: string, values: Float32Array, dims: [number, numbe
 
 /**
  * Pass 1: sets `active[block]` for the blocks of block layers [bk0, bk1) that straddle the level (after
- * forcing the grid's outer layer outside) and returns how many. Each x-row of a plane is read once, in
- * order, and its per-block min/max is folded into the blocks that share it (a row on a block boundary
- * belongs to two).
+ * forcing the grid's outer layer outside) and returns how many. Each x-row is read once, in order, as runs
+ * of samples on one side of the level (inside ⇔ v < level for an SDF, v > level otherwise; a NaN counts as
+ * outside, as pass 2 treats it); each run ORs its side (1 inside, 2 outside) into the blocks it overlaps. A
+ * row on one side throughout, most rows of most grids, costs one compare per sample and one OR for its block
+ * row. Measured on the 2-core VM, 256³ bench sphere: 29–35 ms per grid with a min/max per block segment
+ * (the previous pass 1), about 10 ms with runs found by {@link runEnd}.
  */
 function markActiveBlocks(values: Float32Array, dims: [number, number, number], B: number, level: number, sdf: boolean, active: Uint8Array, bk0: number, bk1: number): number {
   const [nx, ny, nz] = dims;
   const cx = nx - 1, cy = ny - 1, cz = nz - 1;
   const bx = Math.ceil(cx / B), by = Math.ceil(cy / B), bz = Math.ceil(cz / B);
   const nb = bx * by;
-  // Min/max of the current block layer so far, and of the plane being read.
-  const lo = new Float64Array(nb).fill(Infinity), hi = new Float64Array(nb).fill(-Infinity);
-  const plo = new Float64Array(nb), phi = new Float64Array(nb);
+  // Side bits of the current block layer so far, of the plane being read, and of the plane's block rows
+  // (from rows on one side throughout).
+  const layerBits = new Uint8Array(nb), planeBits = new Uint8Array(nb), rowBits = new Uint8Array(by);
+  // Block range [first, last] of each node index along x: a node on a block boundary belongs to two.
+  const firstBlock = Int32Array.from({ length: nx }, (_, i) => (i > 0 && i % B === 0 ? i / B - 1 : Math.min(Math.floor(i / B), bx - 1)));
+  const lastBlock = Int32Array.from({ length: nx }, (_, i) => Math.min(Math.floor(i / B), bx - 1));
   let count = 0;
   const k0 = bk0 * B;
   for (let k = k0, kEnd = Math.min(bk1 * B, cz); k <= kEnd; k++) {
-    plo.fill(Infinity);
-    phi.fill(-Infinity);
+    planeBits.fill(0);
+    rowBits.fill(0);
     for (let j = 0; j <= cy; j++) {
       const bjA = Math.min(Math.floor(j / B), by - 1);
       const bjB = j % B === 0 && j > 0 && j < cy ? bjA - 1 : -1;
       const row = k * nx * ny + j * nx;
-      for (let bi = 0; bi < bx; bi++) {
-        let l = Infinity, h = -Infinity;
-        for (let i = row + bi * B, e = row + Math.min(bi * B + B, cx); i <= e; i++) {
-          const x = values[i];
-          if (x < l) l = x;
-          if (x > h) h = x;
+      const rowEnd = row + nx;
+      let side = (sdf ? values[row] < level : values[row] > level) ? 1 : 2;
+      let i = runEnd(values, row + 1, rowEnd, level, sdf, side);
+      if (i === rowEnd) {
+        rowBits[bjA] |= side;
+        if (bjB >= 0) rowBits[bjB] |= side;
+        continue;
+      }
+      // The row changes side: fold each run [start, i − 1] into its blocks.
+      let start = row;
+      for (;;) {
+        const o = bx * bjA, p = bx * bjB;
+        for (let b = firstBlock[start - row], e = lastBlock[i - 1 - row]; b <= e; b++) {
+          planeBits[o + b] |= side;
+          if (bjB >= 0) planeBits[p + b] |= side;
         }
-        let o = bi + bx * bjA;
-        if (l < plo[o]) plo[o] = l;
-        if (h > phi[o]) phi[o] = h;
-        if (bjB >= 0) {
-          o = bi + bx * bjB;
-          if (l < plo[o]) plo[o] = l;
-          if (h > phi[o]) phi[o] = h;
-        }
+        if (i === rowEnd) break;
+        start = i;
+        side = 3 - side;
+        i = runEnd(values, i + 1, rowEnd, level, sdf, side);
       }
     }
-    for (let o = 0; o < nb; o++) {
-      if (plo[o] < lo[o]) lo[o] = plo[o];
-      if (phi[o] > hi[o]) hi[o] = phi[o];
+    for (let bj = 0, o = 0; bj < by; bj++) {
+      const r = rowBits[bj];
+      for (let bi = 0; bi < bx; bi++, o++) layerBits[o] |= planeBits[o] | r;
     }
     // Plane k closes block layer bk when it is that layer's top; it then also opens the next layer.
     if (k > k0 && (k % B === 0 || k === cz)) {
@@ -406,19 +417,63 @@ function markActiveBlocks(values: Float32Array, dims: [number, number, number], 
         for (let bi = 0; bi < bx; bi++) {
           const o = bi + bx * bj;
           const touches = bi === 0 || bj === 0 || bk === 0 || bi === bx - 1 || bj === by - 1 || bk === bz - 1;
-          // inside ⇔ s < 0 with s = v − level (sdf) or level − v (density, occupancy).
-          const anyInside = sdf ? lo[o] < level : hi[o] > level;
-          const anyOutside = sdf ? hi[o] >= level : lo[o] <= level;
-          if (anyInside && (anyOutside || touches)) {
+          const bits = layerBits[o];
+          if ((bits & 1) !== 0 && ((bits & 2) !== 0 || touches)) {
             active[o + nb * bk] = 1;
             count++;
           }
         }
-      lo.set(plo);
-      hi.set(phi);
+      // The next layer starts with this plane.
+      for (let bj = 0, o = 0; bj < by; bj++) {
+        const r = rowBits[bj];
+        for (let bi = 0; bi < bx; bi++, o++) layerBits[o] = planeBits[o] | r;
+      }
     }
   }
   return count;
+}
+
+/**
+ * The first index in [i, end) whose sample is not on `side` (1 inside, 2 outside; inside ⇔ v < level for an
+ * SDF, v > level otherwise), or `end`. Eight samples are compared per branch, with `&`/`|` on the booleans
+ * so the loop has one exit test per eight: measured on the 2-core VM over the 256³ bench sphere's rows,
+ * 0.44 ns per sample against 1.33 for one exit test per sample and 0.75 for a branch-free count.
+ */
+function runEnd(values: Float32Array, i: number, end: number, level: number, sdf: boolean, side: number): number {
+  if (sdf) return side === 1 ? endBelow(values, i, end, level) : endNotBelow(values, i, end, level);
+  return side === 1 ? endAbove(values, i, end, level) : endNotAbove(values, i, end, level);
+}
+
+function endBelow(values: Float32Array, i: number, end: number, level: number): number {
+  for (; i + 7 < end; i += 8)
+    if (((+(values[i] < level) & +(values[i + 1] < level) & +(values[i + 2] < level) & +(values[i + 3] < level) &
+      +(values[i + 4] < level) & +(values[i + 5] < level) & +(values[i + 6] < level) & +(values[i + 7] < level))) === 0) break;
+  while (i < end && values[i] < level) i++;
+  return i;
+}
+
+function endNotBelow(values: Float32Array, i: number, end: number, level: number): number {
+  for (; i + 7 < end; i += 8)
+    if ((+(values[i] < level) | +(values[i + 1] < level) | +(values[i + 2] < level) | +(values[i + 3] < level) |
+      +(values[i + 4] < level) | +(values[i + 5] < level) | +(values[i + 6] < level) | +(values[i + 7] < level)) !== 0) break;
+  while (i < end && !(values[i] < level)) i++;
+  return i;
+}
+
+function endAbove(values: Float32Array, i: number, end: number, level: number): number {
+  for (; i + 7 < end; i += 8)
+    if (((+(values[i] > level) & +(values[i + 1] > level) & +(values[i + 2] > level) & +(values[i + 3] > level) &
+      +(values[i + 4] > level) & +(values[i + 5] > level) & +(values[i + 6] > level) & +(values[i + 7] > level))) === 0) break;
+  while (i < end && values[i] > level) i++;
+  return i;
+}
+
+function endNotAbove(values: Float32Array, i: number, end: number, level: number): number {
+  for (; i + 7 < end; i += 8)
+    if ((+(values[i] > level) | +(values[i + 1] > level) | +(values[i + 2] > level) | +(values[i + 3] > level) |
+      +(values[i + 4] > level) | +(values[i + 5] > level) | +(values[i + 6] > level) | +(values[i + 7] > level)) !== 0) break;
+  while (i < end && !(values[i] > level)) i++;
+  return i;
 }
 
 const EDGE_C0 = Int8Array.from(EDGE_CORNERS, (c) => c[0]);

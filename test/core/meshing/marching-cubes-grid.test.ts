@@ -89,6 +89,26 @@ describe('marching cubes on a dense grid', () => {
     expectClosedManifold(a.mesh, 'density noise');
   });
 
+  test('a NaN sample counts as outside in both passes: the same mesh as a large positive value there', () => {
+    // A solid block of inside samples (no outside sample in its block) with NaN holes: the empty-space
+    // test must not skip it, since the marching pass treats NaN as outside (no comparison holds for NaN).
+    for (const kind of ['sdf', 'density'] as const) {
+      const n = 20;
+      const inside = kind === 'sdf' ? -1 : 1, outside = kind === 'sdf' ? 1e6 : -1e6;
+      const withNaN = new Float32Array(n ** 3).fill(inside);
+      const withBig = new Float32Array(n ** 3).fill(inside);
+      for (const at of [5 + 20 * (6 + 20 * 7), 11 + 20 * (12 + 20 * 9), 12 + 20 * (12 + 20 * 9)]) {
+        withNaN[at] = NaN;
+        withBig[at] = outside;
+      }
+      const opts = { kind, level: 0, origin: [0, 0, 0] as [number, number, number], spacing: [1, 1, 1] as [number, number, number], blockSize: 8 };
+      const a = marchingCubesGrid(withNaN, [n, n, n], opts), b = marchingCubesGrid(withBig, [n, n, n], opts);
+      expect(a.mesh.indices.length).toBeGreaterThan(0);
+      expect(a.mesh.indices).toEqual(b.mesh.indices);
+      expect(a.activeBlocks).toBe(b.activeBlocks);
+    }
+  });
+
   test('bad input is refused with the function name', () => {
     expect(() => marchingCubesGrid(new Float32Array(8), [2, 2, 1], { kind: 'sdf', level: 0, origin: [0, 0, 0], spacing: [1, 1, 1] })).toThrow(/^marchingCubesGrid: every axis/);
     expect(() => marchingCubesGrid(new Float32Array(7), [2, 2, 2], { kind: 'sdf', level: 0, origin: [0, 0, 0], spacing: [1, 1, 1] })).toThrow(/^marchingCubesGrid: 7 values/);
