@@ -87,7 +87,7 @@ export interface GridLayersExtraction extends GridExtraction {
  */
 export interface GridLayersScratch {
   ids?: Int32Array;
-  positions?: Float64Array;
+  positions?: Float32Array;
   indices?: Uint32Array;
 }
 
@@ -140,7 +140,7 @@ export function marchingCubesGridLayers(
     scratch.positions = marcher.out.pos;
     scratch.indices = marcher.out.idx;
   }
-  return { mesh: marcher.out.toMesh(), surfaceCells: marcher.surfaceCells, activeBlocks, totalBlocks: bx * by * bz, bottomEdges, topEdges };
+  return { mesh: marcher.out.toMesh(scratch !== undefined), surfaceCells: marcher.surfaceCells, activeBlocks, totalBlocks: bx * by * bz, bottomEdges, topEdges };
 }
 
 /**
