@@ -32,6 +32,9 @@ export function fanStarts(edges: ArrayLike<number>, n: number): number {
   return starts;
 }
 
+/** Corner coordinates of the polygon being fanned (a cell polygon has at most 12 corners). */
+const FAN_XYZ = new Float64Array(36);
+
 export class MeshBuilder {
   /**
    * Positions, stored as float32 as they are made: the mesh's own precision, and half the fresh memory of
@@ -106,13 +109,26 @@ export class MeshBuilder {
       this.indexCount = o + 6;
       return;
     }
+    // The polygon's corners are read once into FAN_XYZ; each fan stops at its first triangle no larger
+    // than the best fan's smallest so far (it cannot win then). Same products as area2sq, same choice.
+    const p = this.pos;
+    for (let q = 0; q < n; q++) {
+      const o = 3 * ids[q];
+      FAN_XYZ[3 * q] = p[o];
+      FAN_XYZ[3 * q + 1] = p[o + 1];
+      FAN_XYZ[3 * q + 2] = p[o + 2];
+    }
     let best = -1;
     let bestScore = -1;
     for (let s = 0; s < n; s++) {
       if (((starts >> s) & 1) === 0) continue;
+      const sx = FAN_XYZ[3 * s], sy = FAN_XYZ[3 * s + 1], sz = FAN_XYZ[3 * s + 2];
       let worst = Infinity;
-      for (let t = 1; t < n - 1; t++) {
-        const a2 = this.area2sq(ids[s], ids[(s + t) % n], ids[(s + t + 1) % n]);
+      for (let t = 1; t < n - 1 && worst > bestScore; t++) {
+        let b = s + t, c = b + 1;
+        if (b >= n) b -= n;
+        if (c >= n) c -= n;
+        const a2 = cross2(FAN_XYZ[3 * b] - sx, FAN_XYZ[3 * b + 1] - sy, FAN_XYZ[3 * b + 2] - sz, FAN_XYZ[3 * c] - sx, FAN_XYZ[3 * c + 1] - sy, FAN_XYZ[3 * c + 2] - sz);
         if (a2 < worst) worst = a2;
       }
       if (worst > bestScore) {
