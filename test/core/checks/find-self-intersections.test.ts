@@ -84,6 +84,22 @@ describe('findSelfIntersections', () => {
     expect(partners).toEqual(Array.from({ length: 20 }, (_, t) => t));
   });
 
+  it('two nearly coplanar neighbours 36 µm apart on a smooth surface are not reported', () => {
+    // Two triangles of the depth-9 marching-cubes mesh of sphere_sdf.onnx (shared fixtures), in cells
+    // stacked in z, float32 positions as stored. Exact rational arithmetic (Python's fractions, outside
+    // Fieldkiln) finds no edge of either crossing the other; their closest vertices are 36 µm apart. The
+    // third, far triangle only sets the mesh's size as the sphere's did (ε = 1e-7 × its diagonal).
+    const a = [0.07597038149833679, 0.0732421875, -0.4892578125, 0.0732421875, 0.0732421875, -0.48977598547935486, 0.0732421875, 0.076171875, -0.4892645478248596];
+    const b = [0.07327762991189957, 0.076171875, -0.4892578125, 0.076171875, 0.076171875, -0.4887085556983948, 0.076171875, 0.0732421875, -0.4892195463180542];
+    const far = [0.75, 0.75, 0.75, 0.749, 0.75, 0.75, 0.75, 0.749, 0.75];
+    expect(findSelfIntersections(mesh([...a, ...b, ...far], [0, 1, 2, 3, 4, 5, 6, 7, 8]))).toEqual([]);
+    // At the same scale a real crossing is still found: a, shrunk by 0.8 about its centroid and tilted by
+    // 20 µm along z (its normal is mostly z), pierces a's interior with the edges from its two raised corners.
+    const c = [0, 1, 2].map((d) => (a[d] + a[3 + d] + a[6 + d]) / 3);
+    const tilted = a.map((x, i) => c[i % 3] + 0.8 * (x - c[i % 3]) + (i % 3 === 2 ? (i === 5 ? -2e-5 : 2e-5) : 0));
+    expect(findSelfIntersections(mesh([...a, ...tilted, ...far], [0, 1, 2, 3, 4, 5, 6, 7, 8]))).toEqual([0, 1]);
+  });
+
   it('a duplicate of a triangle with a NaN corner is still reported (it cannot be placed in space)', () => {
     // Triangles 1 and 2 repeat the same three vertex indices (a duplicate, by definition), one of which is
     // NaN; triangle 0 is a clean triangle far away. Only the duplicate pair counts.
