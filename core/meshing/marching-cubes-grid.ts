@@ -62,7 +62,7 @@ export function marchingCubesGrid(values: Float32Array, dims: [number, number, n
   const activeBlocks = markActiveBlocks(values, dims, B, options.level, options.kind === 'sdf', active, 0, bz);
 
   // Pass 2: march the active blocks layer by layer.
-  const marcher = new GridMarcher(values, dims, options, B, activeBlocks * B * B * 2);
+  const marcher = new GridMarcher(values, dims, options, B, expectedVertices(activeBlocks, B));
   for (let k = 0; k < cz; k++) marcher.cellLayer(active, k);
   return { mesh: marcher.out.toMesh(), surfaceCells: marcher.surfaceCells, activeBlocks, totalBlocks: bx * by * bz };
 }
@@ -127,10 +127,10 @@ export function marchingCubesGridLayers(
     // Reuse the caller's buffers: the ring cleared, the mesh buffers overwritten from the start.
     if (!scratch.ids || scratch.ids.length < ringLength) scratch.ids = new Int32Array(ringLength);
     else scratch.ids.fill(0, 0, ringLength);
-    marcher = new GridMarcher(values, dims, options, B, scratch.positions ? 0 : activeBlocks * B * B * 2, scratch.ids.subarray(0, ringLength));
+    marcher = new GridMarcher(values, dims, options, B, scratch.positions ? 0 : expectedVertices(activeBlocks, B), scratch.ids.subarray(0, ringLength));
     if (scratch.positions) marcher.out.pos = scratch.positions;
     if (scratch.indices) marcher.out.idx = scratch.indices;
-  } else marcher = new GridMarcher(values, dims, options, B, activeBlocks * B * B * 2);
+  } else marcher = new GridMarcher(values, dims, options, B, expectedVertices(activeBlocks, B));
   // The bottom plane's edges are read right after the first cell layer, before its ring slot is reused.
   let bottomEdges: Int32Array = new Int32Array(0);
   const kEnd = Math.min(layer1 * B, cz);
@@ -347,6 +347,17 @@ class GridMarcher {
       else out.addFan(starts, loopIds, n);
     }
   }
+}
+
+/**
+ * Vertices to make room for: about one per surface cell, and about B² surface cells per active block
+ * (a sheet through a block of B³ cells). Measured on the 256³ bench grids: 196 k / 765 k / 18 k vertices
+ * for 3,062 / 11,680 / 306 active blocks (B = 8), 1.00 / 1.02 / 0.94 × B² per block; the buffers grow by
+ * doubling past it. A quarter more keeps most grids from growing: twice as much, as before, cost 54 ms a
+ * call on the 256³ lattice wherever freed memory is reused (calloc zeroes the whole of it).
+ */
+function expectedVertices(activeBlocks: number, B: number): number {
+  return Math.ceil(1.25 * activeBlocks * B * B);
 }
 
 /** Checks the arguments both entry points share (misuse throws, naming the function); returns the block size. */
