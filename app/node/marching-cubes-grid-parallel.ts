@@ -50,7 +50,7 @@ export interface ParallelGridOptions {
 
 /**
  * Slabs per worker by default. More slabs even out the load (the tail waits for at most one slab, and a
- * worker slowed by other processes takes fewer) but each costs clearing a ring of node ids (7 MB for a
+ * worker slowed by other processes takes fewer) but each costs clearing a ring of node ids (1.5 MB for a
  * 256² plane) and re-reading one plane. Measured on the 2-core VM, 2 workers, 256³ sphere / lattice / prop,
  * best of 5, ms: 1 per worker 91 / 218 / 74, 2: 92 / 249 / 76, 4: 99 / 231 / 80, 8: 99 / 253 / 44 — no
  * difference above the noise of the shared machine; 4 kept for uneven grids and uneven cores.

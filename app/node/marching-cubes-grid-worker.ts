@@ -31,7 +31,7 @@ export type GridSlabReply =
     }
   | { id: number; error: string };
 
-/** Kept across slabs and calls (see GridLayersScratch): the id ring (7 MB for 256² planes) and the mesh buffers. */
+/** Kept across slabs and calls (see GridLayersScratch): the id ring (1.5 MB for 256² planes) and the mesh buffers. */
 const scratch: GridLayersScratch = {};
 
 parentPort!.on('message', (msg: GridSlabRequest) => {
