@@ -174,12 +174,13 @@ class GridMarcher {
   readonly sy: number;
   readonly sz: number;
   /**
-   * Vertex id + 1 of the x, y and z edges of node (i, j, k) at 6·(i + nx·j) + 3·(k mod 2) + axis: a ring of
-   * two node planes, interleaved so a cell finds its lower and upper edges of one node column in one cache
-   * line (0: none yet; 1.01–1.02× on the 256³ bench grids, interleaved A/B, same bytes). While cell layer k is marched, an id on plane k is current when it is
-   * at least `firstPrev` (the vertex count at the start of layer k − 1, which made that plane's x and y
-   * edges as its top), one on plane k + 1 when it is at least `firstCur` (the start of layer k); older ids
-   * there belong to plane k − 1 or below, so nothing needs clearing or carrying.
+   * Vertex id + 1 (0: none yet) of the x, y and z edges of node (i, j, k) at 6·(i + nx·j) + 3·(k mod 2) +
+   * axis: a ring of two node planes, interleaved so a cell finds the lower and upper edges of one node
+   * column in one cache line (1.01–1.02× on the 256³ bench grids, interleaved A/B, same bytes). While cell
+   * layer k is marched, an id on plane k is current when it is at least `firstPrev` (the vertex count at
+   * the start of layer k − 1, which made that plane's x and y edges as its top), one on plane k + 1 when it
+   * is at least `firstCur` (the start of layer k); older ids there belong to plane k − 1 or below, so
+   * nothing needs clearing or carrying.
    */
   readonly ids: Int32Array;
   readonly out: MeshBuilder;
