@@ -51,11 +51,12 @@ export interface ParallelGridOptions {
 /**
  * Slabs per worker by default. More slabs even out the load (the tail waits for at most one slab, and a
  * worker slowed by other processes takes fewer) but each costs clearing a ring of node ids (1.5 MB for a
- * 256² plane) and re-reading one plane. Measured on the 2-core VM, 2 workers, 256³ sphere / lattice / prop,
- * best of 5, ms: 1 per worker 91 / 218 / 74, 2: 92 / 249 / 76, 4: 99 / 231 / 80, 8: 99 / 253 / 44 — no
- * difference above the noise of the shared machine; 4 kept for uneven grids and uneven cores.
+ * 256² plane), re-reading one plane and a message. Measured on the 2-core VM, 2 workers, 256³ sphere /
+ * prop / lattice, 8 interleaved calls each, best (median) ms: 2 slabs 50 (54) / 14 (15) / 145 (253),
+ * 4 slabs 52 (61) / 16 (21) / 116 (149), 8 slabs 56 (61) / 18 (22) / 136 (272), 16 slabs 59 (71) /
+ * 24 (27) / 131 (153). Two per worker keeps most of one slab's speed and some room for an uneven core.
  */
-export const SLABS_PER_WORKER = 4;
+export const SLABS_PER_WORKER = 2;
 
 export interface ParallelGridExtraction extends GridExtraction {
   workers: number;
