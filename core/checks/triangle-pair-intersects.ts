@@ -290,7 +290,9 @@ function project(p: Vec, ax: number): V2 {
 /** Signed distance of c from the line through a and b (positive to the left), or 0 when a = b. */
 function side2d(a: V2, b: V2, c: V2): number {
   const ex = b[0] - a[0], ey = b[1] - a[1];
-  const len = Math.hypot(ex, ey);
+  // Not Math.hypot: this is the coplanar test's inner step, and hypot made the whole search on the
+  // depth-9 birdbath grid mesh (1.39M triangles, flat patches) 1.5–2.3× slower (6.2–6.6 s against 2.7–4.3 s).
+  const len = Math.sqrt(ex * ex + ey * ey);
   return len > 0 ? (ex * (c[1] - a[1]) - ey * (c[0] - a[0])) / len : 0;
 }
 

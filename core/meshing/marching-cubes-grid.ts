@@ -219,7 +219,7 @@ class GridMarcher {
    * order (7 MB for a 256² plane) was fresh memory on every call, at about 7 µs per 4 kB page.
    */
   cellLayer(active: Uint8Array, k: number): void {
-    const { B, bx, by, cx, cy, cz, nxy } = this;
+    const { B, bx, by, cx, cy, cz } = this;
     this.firstPrev = this.firstCur;
     this.firstCur = this.out.vertexCount;
     const thr0 = this.firstPrev;

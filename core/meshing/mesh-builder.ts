@@ -87,7 +87,7 @@ export class MeshBuilder {
     if (n === 4 && (starts & 3) !== 0) {
       // Two ways to split a quad: diagonal 0–2 or 1–3. Keep the one off the cell faces whose smaller
       // triangle is larger (the same choice the general fan search below makes). The four corners are
-      // read once into locals; the products are those of area2sq, in the same order, so the choice is too.
+      // read once into locals; each triangle's doubled area squared comes from cross2.
       const a = ids[0], b = ids[1], c = ids[2], d = ids[3];
       const p = this.pos;
       const ax = p[3 * a], ay = p[3 * a + 1], az = p[3 * a + 2];
@@ -110,7 +110,7 @@ export class MeshBuilder {
       return;
     }
     // The polygon's corners are read once into FAN_XYZ; each fan stops at its first triangle no larger
-    // than the best fan's smallest so far (it cannot win then). Same products as area2sq, same choice.
+    // than the best fan's smallest so far (it cannot win then), which leaves the choice unchanged.
     const p = this.pos;
     for (let q = 0; q < n; q++) {
       const o = 3 * ids[q];
@@ -154,11 +154,6 @@ export class MeshBuilder {
     const next = new Uint32Array(this.idx.length * 2);
     next.set(this.idx);
     this.idx = next;
-  }
-
-  private area2sq(a: number, b: number, c: number): number {
-    const p = this.pos;
-    return cross2(p[3 * b] - p[3 * a], p[3 * b + 1] - p[3 * a + 1], p[3 * b + 2] - p[3 * a + 2], p[3 * c] - p[3 * a], p[3 * c + 1] - p[3 * a + 1], p[3 * c + 2] - p[3 * a + 2]);
   }
 
   /**
