@@ -152,8 +152,9 @@ async function run(spec: Spec): Promise<Record<string, unknown>> {
   const GRID_WARMUPS = 3, GRID_REPEATS = 5, ROUNDS = 2;
   const g0 = performance.now();
   let values: Float32Array, spacing: number;
-  if (spec.cache && existsSync(spec.cache)) {
-    const bytes = readFileSync(spec.cache);
+  const gridFromCache = !!spec.cache && existsSync(spec.cache);
+  if (gridFromCache) {
+    const bytes = readFileSync(spec.cache!);
     values = new Float32Array(bytes.buffer, bytes.byteOffset, bytes.byteLength / 4);
     spacing = 2 / (spec.n - 1); // makeBenchGrid's spacing over [-1, 1]³
   } else {
@@ -244,6 +245,7 @@ async function run(spec: Spec): Promise<Record<string, unknown>> {
   const result: Record<string, unknown> = {
     voxels,
     gridSeconds,
+    gridFromCache,
     ours: {
       seconds: best, voxelsPerSecond: voxels / best, firstCallSeconds, warmups: GRID_WARMUPS, repeats: ROUNDS * GRID_REPEATS,
       triangles: topo.triangles, euler: topo.eulerCharacteristic, components: topo.components, watertight: topo.watertight, activeBlocks: ours.activeBlocks, totalBlocks: ours.totalBlocks,

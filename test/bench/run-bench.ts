@@ -154,7 +154,7 @@ for (const alloc of ALLOCATORS)
         v.voxelsPerSecond ? `${f((o.voxelsPerSecond as number) / (v.voxelsPerSecond as number))}×` : '—',
         p.voxelsPerSecond ? `${f((p.voxelsPerSecond as number) / 1e6, 1)} (${p.workers} thr${p.identical ? '' : ', MESH DIFFERS'})` : '—',
         p.voxelsPerSecond && v.voxelsPerSecond ? `${f((p.voxelsPerSecond as number) / (v.voxelsPerSecond as number))}×` : '—', i.voxelsPerSecond ? f((i.voxelsPerSecond as number) / 1e6, 1) : '—',
-        f(o.triangles, 0), f(v.triangles, 0), f(o.euler, 0), f(v.euler, 0), `${o.activeBlocks}/${o.totalBlocks}`, `${f(r.gridSeconds, 0)} s`, mb(r.peakRss),
+        f(o.triangles, 0), f(v.triangles, 0), f(o.euler, 0), f(v.euler, 0), `${o.activeBlocks}/${o.totalBlocks}`, r.gridFromCache ? 'read' : `${f(r.gridSeconds, 0)} s`, mb(r.peakRss),
       ];
     }),
   );
