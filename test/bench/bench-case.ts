@@ -182,9 +182,10 @@ async function run(spec: Spec): Promise<Record<string, unknown>> {
   // VTK's script, run once per round on a raw copy of the values (skipped with a note when VTK is absent).
   const py = '/usr/bin/python3';
   const vtkReady = existsSync(py) && spawnSync(py, ['-c', 'import vtk, numpy'], { encoding: 'utf8' }).status === 0;
+  // The cache file already holds the raw values when there is one.
   const dir = mkdtempSync(join(tmpdir(), 'fieldkiln-bench-'));
-  const raw = join(dir, 'grid.f32');
-  if (vtkReady) writeFileSync(raw, new Uint8Array(values.buffer, values.byteOffset, values.byteLength));
+  const raw = spec.cache ?? join(dir, 'grid.f32');
+  if (vtkReady && !spec.cache) writeFileSync(raw, new Uint8Array(values.buffer, values.byteOffset, values.byteLength));
   const vtkRuns: Record<string, unknown>[] = [];
   let vtkError: string | undefined;
   const timeVtk = (): void => {
