@@ -6,9 +6,18 @@
  *   threads take slabs from a queue, so a slab with more surface does not hold the others up, and extract
  *   each with core's `marchingCubesGridLayers`: the same cell order and first-touch vertex numbering as the
  *   whole-grid pass, plus the vertices each slab made on the edges of its bottom and top planes.
- * - The calling thread stitches the slabs in order: a slab's bottom-plane vertex is the one the slab below
- *   made on its top plane for the same edge (the single-threaded pass would have taken it from there), and
- *   every other vertex gets the next id. Concatenated so, positions and indices equal the whole-grid pass.
+ * - Two steps per slab. The workers extract their slabs and keep the meshes, replying with counts and the
+ *   vertices on the slab's end planes. The calling thread then only numbers: a slab's bottom-plane vertex is
+ *   the one the slab below made on its top plane for the same edge (the single-threaded pass would have
+ *   taken it from there), every other vertex gets the next id, and each slab's triangles follow the slab
+ *   below's. The workers write their positions and renumbered indices straight into the output, two
+ *   SharedArrayBuffers, so positions and indices equal the whole-grid pass. Before, each slab's mesh was
+ *   copied, sent, and stitched on the calling thread: 15–35 ms of a 60 ms call on the 256³ sphere, for
+ *   fresh output memory the calling thread alone faulted in. Interleaved A/B, 2 workers, 256³ grids, best
+ *   (median) ms, old against new: sphere 33 (47) / 30 (41), prop 11 (14) / 11 (14), lattice 81 (154) /
+ *   69 (74); keeping freed heap, lattice 111 (115) / 91 (103).
+ * - The mesh's arrays are views over SharedArrayBuffers: they can be shared with other threads but not
+ *   transferred.
  * - The samples reach the workers through a SharedArrayBuffer. A caller whose array is not shared pays one
  *   copy per call (reported as `copySeconds`) into a shared buffer kept for the next call (see `spare`);
  *   {@link shareGridValues} makes a shared copy a caller can keep and pass again.
@@ -19,8 +28,6 @@
  * cores were busy with other work at the time, so figures move by 2× from run to run):
  * - start-up: 0.09–0.20 s for the pool to start and each worker to answer once; the first real call then
  *   runs unoptimized code in each worker (0.35–0.95 s on 256³ against 0.09–0.36 s warm).
- * - stitching on the calling thread: 1 / 6 / 18 ms for prop / sphere / lattice (37 k / 392 k / 1.53 M
- *   triangles), against 30–90 / 87–93 / 146–161 ms for the whole call.
  * - copying unshared input: 200–300 ms into a new 64 MB SharedArrayBuffer (new pages are dear on this VM),
  *   5–6 ms into the kept one.
  * - workers keep their scratch buffers between slabs (core's GridLayersScratch): a worker thread's
@@ -33,7 +40,7 @@ import { fileURLToPath } from 'node:url';
 import { Worker } from 'node:worker_threads';
 import type { GridExtraction, MarchingCubesGridOptions } from '../../core/meshing/marching-cubes-grid.js';
 import { FIELD_KINDS } from '../../core/types.js';
-import type { GridSlabReply, GridSlabRequest } from './marching-cubes-grid-worker.js';
+import type { GridSlabReply, GridSlabRequest, GridWriteRequest } from './marching-cubes-grid-worker.js';
 
 const NAME = 'marchingCubesGridParallel';
 
@@ -63,7 +70,7 @@ export interface ParallelGridExtraction extends GridExtraction {
   slabs: number;
   /** Seconds spent copying `values` into shared memory (0 when it already was shared). */
   copySeconds: number;
-  /** Seconds the calling thread spent stitching the slabs into one mesh. */
+  /** Seconds the calling thread spent numbering the slabs and making the output buffers (the workers fill them). */
   stitchSeconds: number;
   /** Seconds the workers spent extracting, summed over slabs (wall time × workers when they never wait). */
   workerSeconds: number;
@@ -128,15 +135,21 @@ export async function marchingCubesGridParallel(
   // Slab s covers block layers [edge[s], edge[s + 1]): as even a split of the layers as whole layers allow.
   const edge = Array.from({ length: slabs + 1 }, (_, s) => Math.round((s * bz) / slabs));
   const pool = takeWorkers(Math.min(workers, slabs));
-  const replies: SlabResult[] = new Array(slabs);
+  const replies: SlabCounts[] = new Array(slabs);
+  const holder: { worker: GridWorker; keep: number }[] = new Array(slabs);
+  let stitchSeconds = 0, workerSeconds = 0;
+  let mesh: { positions: Float32Array; indices: Uint32Array };
   let next = 0;
   try {
+    // Step 1: each worker extracts slabs from the queue and keeps their meshes.
     await Promise.all(
       pool.map(async (w) => {
         try {
           while (next < slabs) {
             const s = next++;
-            replies[s] = await w.ask({ values: shared.buffer as SharedArrayBuffer, byteOffset: shared.byteOffset, dims: [nx, ny, nz], options: opts, layer0: edge[s], layer1: edge[s + 1] });
+            const keep = w.nextKeep++;
+            holder[s] = { worker: w, keep };
+            replies[s] = await w.extract({ step: 'extract', keep, values: shared.buffer as SharedArrayBuffer, byteOffset: shared.byteOffset, dims: [nx, ny, nz], options: opts, layer0: edge[s], layer1: edge[s + 1] });
           }
         } catch (e) {
           next = slabs; // the others stop after their current slab
@@ -144,14 +157,25 @@ export async function marchingCubesGridParallel(
         }
       }),
     );
+    // The calling thread only numbers: where each slab's vertices and indices go, and which of its vertices
+    // the slab below made. Step 2: each worker writes its slabs there.
+    const t0 = performance.now();
+    const plan = planSlabs(replies, nx * ny);
+    const posBuffer = new SharedArrayBuffer(12 * plan.vertexCount);
+    const idxBuffer = new SharedArrayBuffer(4 * plan.indexCount);
+    stitchSeconds = (performance.now() - t0) / 1000;
+    const written = await Promise.all(
+      replies.map((_, s) =>
+        holder[s].worker.write({ step: 'write', keep: holder[s].keep, positions: posBuffer, indices: idxBuffer, vertexOffset: plan.vertexOffset[s], indexOffset: plan.indexOffset[s], sharedLocal: plan.sharedLocal[s], sharedGlobal: plan.sharedGlobal[s] }),
+      ),
+    );
+    for (const w of written) workerSeconds += w.seconds;
+    mesh = { positions: new Float32Array(posBuffer), indices: new Uint32Array(idxBuffer) };
   } finally {
     releaseWorkers(pool);
     if (scratch) giveBackScratch(scratch);
   }
-  const t0 = performance.now();
-  const mesh = stitchSlabs(replies, nx * ny);
-  const stitchSeconds = (performance.now() - t0) / 1000;
-  let surfaceCells = 0, activeBlocks = 0, workerSeconds = 0;
+  let surfaceCells = 0, activeBlocks = 0;
   for (const r of replies) {
     surfaceCells += r.surfaceCells;
     activeBlocks += r.activeBlocks;
@@ -160,76 +184,68 @@ export async function marchingCubesGridParallel(
   return { mesh, surfaceCells, activeBlocks, totalBlocks: bx * by * bz, workers: pool.length, slabs, copySeconds, stitchSeconds, workerSeconds };
 }
 
-type SlabResult = Extract<GridSlabReply, { positions: Float32Array }>;
+type SlabCounts = Extract<GridSlabReply, { vertexCount: number }>;
+type SlabWritten = Extract<GridSlabReply, { written: true }>;
 
 /**
- * Joins the slabs' meshes in z order. Slab s's vertex is either a bottom-plane vertex that slab s − 1 also
- * made (it takes that vertex's id) or a new one (the next id, in the slab's own order), so ids follow the
- * whole-grid pass's first-touch order. Its triangles keep their order, renumbered.
+ * Where each slab's mesh goes in the whole one, in z order. Slab s's vertex is either a bottom-plane vertex
+ * that slab s − 1 also made (it takes that vertex's id: `sharedLocal[s]`, ascending, to `sharedGlobal[s]`) or
+ * a new one (the next id, in the slab's own order), so ids follow the whole-grid pass's first-touch order;
+ * its triangles keep their order after those of the slabs below.
  */
-function stitchSlabs(slabs: SlabResult[], nxy: number): { positions: Float32Array; indices: Uint32Array } {
-  let vertexBound = 0, indexCount = 0;
-  for (const s of slabs) {
-    vertexBound += s.positions.length / 3;
-    indexCount += s.indices.length;
-  }
-  if (slabs.length === 1) return { positions: slabs[0].positions, indices: slabs[0].indices };
-  // Final id of each edge on the shared plane, by edge key (2·node + axis); -1 where none.
+function planSlabs(slabs: SlabCounts[], nxy: number) {
+  const n = slabs.length;
+  const vertexOffset = new Array<number>(n), indexOffset = new Array<number>(n);
+  const sharedLocal: Int32Array[] = new Array(n), sharedGlobal: Int32Array[] = new Array(n);
+  // Global id of the vertex on each edge of the plane between slab s − 1 and s, by edge key (2·node + axis); -1 where none.
   const below = new Int32Array(2 * nxy).fill(-1);
-  const positions = new Float32Array(3 * (vertexBound - countShared(slabs, nxy)));
-  const indices = new Uint32Array(indexCount);
-  let vOut = 0, iOut = 0;
-  for (let n = 0; n < slabs.length; n++) {
-    const s = slabs[n];
-    const V = s.positions.length / 3;
-    const id = new Int32Array(V).fill(-1);
-    const bottom = s.bottomEdges;
+  let vertexCount = 0, indexCount = 0;
+  for (let s = 0; s < n; s++) {
+    const r = slabs[s];
+    const bottom = r.bottomEdges;
+    const pairs: [number, number][] = [];
     for (let q = 0; q < bottom.length; q += 2) {
       const g = below[bottom[q]];
-      if (g >= 0) id[bottom[q + 1]] = g;
+      if (g >= 0) pairs.push([bottom[q + 1], g]);
     }
-    // Clear the plane for the next pair of slabs (only the entries set).
-    if (n > 0) for (let q = 0; q < slabs[n - 1].topEdges.length; q += 2) below[slabs[n - 1].topEdges[q]] = -1;
-    // New vertices in runs between the taken ones.
-    let runStart = 0;
-    for (let v = 0; v <= V; v++) {
-      if (v < V && id[v] < 0) continue;
-      if (v > runStart) {
-        positions.set(s.positions.subarray(3 * runStart, 3 * v), 3 * vOut);
-        for (let u = runStart; u < v; u++) id[u] = vOut++;
-      }
-      runStart = v + 1;
+    if (s > 0) for (let q = 0; q < slabs[s - 1].topEdges.length; q += 2) below[slabs[s - 1].topEdges[q]] = -1;
+    pairs.sort((a, b) => a[0] - b[0]);
+    sharedLocal[s] = Int32Array.from(pairs, (p) => p[0]);
+    sharedGlobal[s] = Int32Array.from(pairs, (p) => p[1]);
+    vertexOffset[s] = vertexCount;
+    indexOffset[s] = indexCount;
+    // Global ids of this slab's top-plane vertices, for the slab above: none of them is a bottom-plane one.
+    const top = r.topEdges;
+    const local = sharedLocal[s];
+    for (let q = 0; q < top.length; q += 2) {
+      const l = top[q + 1];
+      below[top[q]] = vertexCount + l - lowerCount(local, l);
     }
-    const src = s.indices;
-    for (let t = 0; t < src.length; t++) indices[iOut++] = id[src[t]];
-    const top = s.topEdges;
-    for (let q = 0; q < top.length; q += 2) below[top[q]] = id[top[q + 1]];
+    vertexCount += r.vertexCount - pairs.length;
+    indexCount += r.indexCount;
   }
-  return { positions, indices };
+  return { vertexOffset, indexOffset, sharedLocal, sharedGlobal, vertexCount, indexCount };
 }
 
-/**
- * Bottom-plane vertices that the slab below also made: all of them in practice (a sign-changing edge on
- * the plane belongs to a surface cell below it too), but one the slab below lacks would stay a new vertex.
- */
-function countShared(slabs: SlabResult[], nxy: number): number {
-  const made = new Uint8Array(2 * nxy);
-  let shared = 0;
-  for (let n = 1; n < slabs.length; n++) {
-    const top = slabs[n - 1].topEdges, bottom = slabs[n].bottomEdges;
-    for (let q = 0; q < top.length; q += 2) made[top[q]] = 1;
-    for (let q = 0; q < bottom.length; q += 2) shared += made[bottom[q]];
-    for (let q = 0; q < top.length; q += 2) made[top[q]] = 0;
+/** How many entries of ascending `a` are below `x`. */
+function lowerCount(a: Int32Array, x: number): number {
+  let lo = 0, hi = a.length;
+  while (lo < hi) {
+    const mid = (lo + hi) >> 1;
+    if (a[mid] < x) lo = mid + 1;
+    else hi = mid;
   }
-  return shared;
+  return lo;
 }
 
 // ---- The worker pool: started once per process, reused by every call. ----
 
 class GridWorker {
   private readonly worker: Worker;
-  private readonly pending = new Map<number, { resolve: (r: SlabResult) => void; reject: (e: Error) => void }>();
+  private readonly pending = new Map<number, { resolve: (r: GridSlabReply) => void; reject: (e: Error) => void }>();
   private nextId = 1;
+  /** Token for the next mesh this worker keeps between the two steps. */
+  nextKeep = 1;
   busy = 0;
   dead = false;
 
@@ -247,12 +263,20 @@ class GridWorker {
     this.worker.on('exit', (code) => this.fail(new Error(`${NAME}: a worker stopped unexpectedly (exit code ${code})`)));
   }
 
-  ask(job: Omit<GridSlabRequest, 'id'>): Promise<SlabResult> {
+  async extract(job: Omit<GridSlabRequest, 'id'>): Promise<SlabCounts> {
+    return (await this.ask(job)) as SlabCounts;
+  }
+
+  async write(job: Omit<GridWriteRequest, 'id'>): Promise<SlabWritten> {
+    return (await this.ask(job)) as SlabWritten;
+  }
+
+  private ask(job: Omit<GridSlabRequest, 'id'> | Omit<GridWriteRequest, 'id'>): Promise<GridSlabReply> {
     return new Promise((resolve, reject) => {
       if (this.dead) return reject(new Error(`${NAME}: a worker stopped unexpectedly`));
       const id = this.nextId++;
       this.pending.set(id, { resolve, reject });
-      this.worker.postMessage({ ...job, id } satisfies GridSlabRequest);
+      this.worker.postMessage({ ...job, id });
     });
   }
 
@@ -326,7 +350,14 @@ export async function startMarchingCubesGridPool(workers = Math.max(1, available
   const ws = takeWorkers(workers);
   const tiny = new Float32Array(new SharedArrayBuffer(32));
   try {
-    await Promise.all(ws.map((w) => w.ask({ values: tiny.buffer as SharedArrayBuffer, byteOffset: 0, dims: [2, 2, 2], options: { kind: 'sdf', level: 0, origin: [0, 0, 0], spacing: [1, 1, 1] }, layer0: 0, layer1: 1 })));
+    await Promise.all(
+      ws.map(async (w) => {
+        const keep = w.nextKeep++;
+        await w.extract({ step: 'extract', keep, values: tiny.buffer as SharedArrayBuffer, byteOffset: 0, dims: [2, 2, 2], options: { kind: 'sdf', level: 0, origin: [0, 0, 0], spacing: [1, 1, 1] }, layer0: 0, layer1: 1 });
+        const none = new SharedArrayBuffer(4);
+        await w.write({ step: 'write', keep, positions: none, indices: none, vertexOffset: 0, indexOffset: 0, sharedLocal: new Int32Array(0), sharedGlobal: new Int32Array(0) });
+      }),
+    );
   } finally {
     releaseWorkers(ws);
   }

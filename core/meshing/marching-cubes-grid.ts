@@ -104,6 +104,8 @@ export interface GridLayersScratch {
  * replaced by the vertices of the previous range's `topEdges` on the same edge and the remaining ids
  * renumbered in order, gives the whole grid's mesh byte for byte. Inputs are those of marchingCubesGrid;
  * `scratch`, when given, lends buffers to reuse (see {@link GridLayersScratch}); the result does not depend on it.
+ * `copy` (default: whether `scratch` was given) makes the returned mesh own its arrays; without it they are
+ * views over the scratch buffers, valid until the scratch is lent again.
  *
  * @example
  * const lower = marchingCubesGridLayers(values, [65, 65, 65], options, 0, 4);
@@ -116,6 +118,7 @@ export function marchingCubesGridLayers(
   layer0: number,
   layer1: number,
   scratch?: GridLayersScratch,
+  copy = scratch !== undefined,
 ): GridLayersExtraction {
   const [nx, ny, nz] = dims;
   const B = checkGridInput('marchingCubesGridLayers', values, dims, options);
@@ -147,7 +150,7 @@ export function marchingCubesGridLayers(
     scratch.positions = marcher.out.pos;
     scratch.indices = marcher.out.idx;
   }
-  return { mesh: marcher.out.toMesh(scratch !== undefined), surfaceCells: marcher.surfaceCells, activeBlocks, totalBlocks: bx * by * bz, bottomEdges, topEdges };
+  return { mesh: marcher.out.toMesh(copy), surfaceCells: marcher.surfaceCells, activeBlocks, totalBlocks: bx * by * bz, bottomEdges, topEdges };
 }
 
 /**
