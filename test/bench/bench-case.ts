@@ -183,8 +183,8 @@ async function run(spec: Spec): Promise<Record<string, unknown>> {
   const py = '/usr/bin/python3';
   const vtkReady = existsSync(py) && spawnSync(py, ['-c', 'import vtk, numpy'], { encoding: 'utf8' }).status === 0;
   // The cache file already holds the raw values when there is one.
-  const dir = mkdtempSync(join(tmpdir(), 'fieldkiln-bench-'));
-  const raw = spec.cache ?? join(dir, 'grid.f32');
+  const dir = spec.cache ? undefined : mkdtempSync(join(tmpdir(), 'fieldkiln-bench-'));
+  const raw = spec.cache ?? join(dir!, 'grid.f32');
   if (vtkReady && !spec.cache) writeFileSync(raw, new Uint8Array(values.buffer, values.byteOffset, values.byteLength));
   const vtkRuns: Record<string, unknown>[] = [];
   let vtkError: string | undefined;
@@ -227,7 +227,7 @@ async function run(spec: Spec): Promise<Record<string, unknown>> {
     timeVtk();
     await timeParallel();
   }
-  rmSync(dir, { recursive: true, force: true });
+  if (dir) rmSync(dir, { recursive: true, force: true });
   const topo = analyzeMesh(ours.mesh);
 
   // Unshared input twice: the first call copies into a new shared buffer, the second into the kept one.
