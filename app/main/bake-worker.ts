@@ -23,6 +23,7 @@ import { CancelledError, FieldkilnError, type Bounds, type MeshData } from '../.
 import { openField } from '../fields/open-field.js';
 import { writeFileAtomic } from '../node/atomic-write.js';
 import { loadUnwrapper } from '../node/load-unwrapper.js';
+import { checkMeshOffThread } from '../node/check-mesh-off-thread.js';
 import { BAKE_SETTING_KEYS, EXPORT_FORMATS, type BakeRequest, type BakeResult, type BakeSettings, type ExportRequest, type ExportResult, type MeshPayload, type ValidatorVerdict, type Verdict } from '../shared/ipc.js';
 import { chooseLevelRange } from './choose-level-range.js';
 import type { FieldFacts, WorkerReply, WorkerRequest, WorkerStartData } from './worker-messages.js';
@@ -235,6 +236,9 @@ if (port) {
       options.deflate = (b) => deflateSync(b);
     }
     if (extras.collision) options.collision = true;
+    // Full bakes check the base level on a thread of its own while the field is evaluated for normals and
+    // colors, as the CLI's bake does; a preview's checks are too short to be worth a thread's start.
+    if (job !== 'preview') options.meshChecker = checkMeshOffThread;
     const result = await bakeField(field, options);
     if (isCancelled(id)) throw new CancelledError();
     return result;

@@ -13,11 +13,9 @@ import { sampleOctree, SAMPLE_OCTREE_DEFAULTS, type SurfaceCells } from '../samp
 import { marchingCubes } from '../meshing/marching-cubes.js';
 import { marchingCubesGrid, type GridExtraction, type MarchingCubesGridOptions } from '../meshing/marching-cubes-grid.js';
 import { dualContour } from '../meshing/dual-contouring.js';
-import { findSelfIntersections } from '../checks/find-self-intersections.js';
 import { areaWeightedNormals } from '../normals/area-weighted-normals.js';
 import { analyzeMesh, type MeshReport } from '../checks/analyze-mesh.js';
-import { runChecks } from '../checks/run-checks.js';
-import { buildMeshTopology } from '../checks/mesh-topology.js';
+import { checkMesh, type MeshChecks } from '../checks/check-mesh.js';
 import type { CheckResult } from '../checks/check-result.js';
 import { countSmallParts, removeSmallParts, SMALL_PART_WARNING_FRACTION } from '../cleanup/remove-small-parts.js';
 import { removeDegenerateTriangles, type DegenerateTrianglesRemoved } from '../cleanup/remove-degenerate-triangles.js';
@@ -65,6 +63,15 @@ export interface BakeOptions {
    * {@link marchingCubesGrid} returns. Default: `marchingCubesGrid`, on the calling thread.
    */
   gridExtractor?: (values: Float32Array, dims: [number, number, number], options: MarchingCubesGridOptions) => GridExtraction | Promise<GridExtraction>;
+  /**
+   * Runs the check stage's scans ({@link checkMesh}) on the base level, for a platform that can run them
+   * on another thread while the field is still evaluated for normals and colors (the CLI passes
+   * app/node/check-mesh-off-thread.ts). Called as soon as the base level's triangles are final (after
+   * cleanup, or after decimation when there is a budget) with its positions and indices, which it must
+   * copy and not change; awaited at the check stage; its `signal` aborts when the bake ends early.
+   * Default: the scans run at the check stage, on the calling thread.
+   */
+  meshChecker?: (mesh: MeshData, signal: AbortSignal) => Promise<MeshChecks>;
   /** Written into the GLB's extras. */
   provenance?: Record<string, unknown>;
   /** Skip writing the GLB (preview). Default: false. */
@@ -170,6 +177,10 @@ export interface BakeReport {
   texture: TextureReport | null;
   /** The collision hull: its node's name and size; null without `collision`. */
   collision: { node: string; triangles: number; vertices: number } | null;
+  /**
+   * Seconds per stage, and `total`. With a `meshChecker`, `check` is what the check stage added to the
+   * bake (waiting for the scans) and `checkOffThread` the seconds the scans ran on their own thread.
+   */
   timings: Record<string, number>;
   output?: { path: string; bytes: number; format: string };
   warnings: string[];
@@ -204,21 +215,32 @@ export async function bakeField(field: Field, options: BakeOptions = {}): Promis
   // with an error that names the stage it happened in.
   let stage = 'sample';
   const onProgress = options.onProgress;
+  // Stops a `meshChecker` still running when the bake ends early (an error or the user's abort).
+  const checkStop = new AbortController();
+  const onAbort = () => checkStop.abort();
+  options.signal?.addEventListener('abort', onAbort, { once: true });
   try {
-    return await bakeStages(field, {
-      ...options,
-      onProgress: (name, fraction) => {
-        if (name !== 'done') stage = name;
-        onProgress?.(name, fraction);
+    return await bakeStages(
+      field,
+      {
+        ...options,
+        onProgress: (name, fraction) => {
+          if (name !== 'done') stage = name;
+          onProgress?.(name, fraction);
+        },
       },
-    });
+      checkStop.signal,
+    );
   } catch (e) {
     if (e instanceof FieldkilnError || e instanceof CancelledError) throw e;
     throw new FieldkilnError(`the ${stage} stage failed: ${(e as Error)?.message ?? String(e)}`);
+  } finally {
+    checkStop.abort();
+    options.signal?.removeEventListener('abort', onAbort);
   }
 }
 
-async function bakeStages(field: Field, options: BakeOptions): Promise<BakeResult> {
+async function bakeStages(field: Field, options: BakeOptions, checkStop: AbortSignal): Promise<BakeResult> {
   const t0 = performance.now();
   const timings: Record<string, number> = {};
   const warnings: string[] = [];
@@ -373,6 +395,16 @@ async function bakeStages(field: Field, options: BakeOptions): Promise<BakeResul
   }
   timings.cleanup = secs(t);
 
+  // The check stage's scans, started on the base level as soon as its triangles are final when the
+  // front end runs them elsewhere (they then overlap the field's evaluations for normals and colors).
+  let pendingChecks: Promise<MeshChecks> | undefined;
+  const startChecks = (m: MeshData) => {
+    if (!options.meshChecker) return;
+    pendingChecks = options.meshChecker({ positions: m.positions, indices: m.indices }, checkStop);
+    pendingChecks.catch(() => {}); // awaited at the check stage; not an unhandled rejection before that
+  };
+  if (!(shaping.budget > 0)) startChecks(full);
+
   // Normals, at every vertex of the full mesh: decimation keeps a subset of these vertices, so the
   // final vertices carry the field's normal at their own position.
   throwIfAborted(options.signal);
@@ -421,6 +453,7 @@ async function bakeStages(field: Field, options: BakeOptions): Promise<BakeResul
       if (lodResults.length === 0) warn(`no LODs were made: the base level is too small to halve`);
     }
     timings.decimate = secs(t);
+    if (shaping.budget > 0) startChecks(base);
   }
   const lodMeshes = lodResults.map((l) => ({ ...l.mesh }));
 
@@ -442,12 +475,18 @@ async function bakeStages(field: Field, options: BakeOptions): Promise<BakeResul
 
   progress('check', 0);
   t = performance.now();
-  // One topology scan of the base level serves both the report's figures and the named checks.
-  const topology = buildMeshTopology(base);
-  const check = analyzeMesh(base, topology);
-  const selfIntersections = findSelfIntersections(base).length / 2;
+  let checked: MeshChecks;
+  if (pendingChecks) {
+    try {
+      checked = await pendingChecks;
+    } catch (e) {
+      throwIfAborted(options.signal);
+      throw e;
+    }
+    timings.checkOffThread = checked.seconds;
+  } else checked = checkMesh(base);
+  const { report: check, selfIntersections, checks } = checked;
   if (selfIntersections > 0) warn(`the mesh intersects itself in ${selfIntersections} pairs of triangles`);
-  const checks = runChecks(base, topology).map(({ name, ok, count, unit, where }) => ({ name, ok, count, unit, where }));
   const lodReport: BakeReport['lods'] = lodResults.map((l, i) => {
     const r = analyzeMesh(l.mesh);
     return { level: i + 1, targetTriangles: l.targetTriangles, triangles: r.triangles, vertices: r.vertices, maxError: l.maxError, watertight: r.watertight, genus: r.genus };

@@ -14,6 +14,7 @@ import { marchingCubes } from '../../core/meshing/marching-cubes.js';
 import { marchingCubesGrid } from '../../core/meshing/marching-cubes-grid.js';
 import { closeMarchingCubesGridPool, marchingCubesGridParallel, shareGridValues, startMarchingCubesGridPool } from '../../app/node/marching-cubes-grid-parallel.js';
 import { analyzeMesh } from '../../core/checks/analyze-mesh.js';
+import { checkMeshOffThread } from '../../app/node/check-mesh-off-thread.js';
 import { latticeNodePoints, makeLattice } from '../../core/sampling/lattice.js';
 import type { Field } from '../../core/fields/field.js';
 import { makeBenchGrid, type BenchShape } from './bench-grids.js';
@@ -61,7 +62,8 @@ async function run(spec: Spec): Promise<Record<string, unknown>> {
     const base = await openField(resolve(ROOT, spec.file), {}, { intraOpNumThreads: spec.threads });
     const open = (performance.now() - t0) / 1000;
     const field = timed(base);
-    const { report } = await bakeField(field, { depth: spec.depth, budget: spec.budget, lods: spec.lods });
+    // As the CLI bakes: the check stage's scans on a thread of their own (app/cli/commands/bake.ts).
+    const { report } = await bakeField(field, { depth: spec.depth, budget: spec.budget, lods: spec.lods, meshChecker: checkMeshOffThread });
     await base.dispose?.();
     const total = open + report.timings.total;
     return {

@@ -17,6 +17,7 @@ import type { Field } from '../../../core/fields/field.js';
 import { FieldkilnError, type Bounds } from '../../../core/types.js';
 import { checkWritable, writeFileAtomic } from '../../node/atomic-write.js';
 import { loadUnwrapper } from '../../node/load-unwrapper.js';
+import { checkMeshOffThread } from '../../node/check-mesh-off-thread.js';
 import { closeMarchingCubesGridPool, marchingCubesGridParallel } from '../../node/marching-cubes-grid-parallel.js';
 
 /**
@@ -158,6 +159,7 @@ export async function runBake(argv: string[]): Promise<number> {
       nonfinite,
       method,
       onSamples,
+      meshChecker: checkMeshOffThread,
       gridExtractor: onSamples && field.samples && field.samples.values.length >= PARALLEL_GRID_MIN_SAMPLES && availableParallelism() > 1 ? marchingCubesGridParallel : undefined,
       minPart,
       budget,
