@@ -210,6 +210,14 @@ class GridMarcher {
   readonly loopIds = new Int32Array(16);
   /** Slot offset of each cell edge's lower node (x, y part) plus its axis. */
   readonly edgeSlot: Int32Array;
+  /**
+   * Inside bits of the nodes of whole blocks (B = 8 only), for two node planes (slot k mod 2): per node row
+   * j and block column bi, bit c for node (bi·B + c, j), c = 0…B, at bits[slot·ny·bx + j·bx + bi]. A block's
+   * rows of plane k are filled once, when a cell layer first needs them (`bitsPlane` holds the plane they
+   * were filled for, per slot and block); a cell row then finds its surface cells from four words.
+   */
+  readonly bits: Uint16Array;
+  readonly bitsPlane: Int32Array;
   surfaceCells = 0;
   firstPrev = 0;
   firstCur = 0;
@@ -231,6 +239,8 @@ class GridMarcher {
     this.ids = ids ?? new Int32Array(this.nxy * 2 * 3);
     this.out = new MeshBuilder(expectedVertices);
     this.edgeSlot = Int32Array.from({ length: 12 }, (_, e) => 6 * ((EDGE_C0[e] & 1) + nx * ((EDGE_C0[e] >> 1) & 1)) + EDGE_AXIS[e]);
+    this.bits = new Uint16Array(B === 8 ? 2 * ny * this.bx : 0);
+    this.bitsPlane = new Int32Array(B === 8 ? 2 * this.bx * this.by : 0).fill(-1);
   }
 
   /**
@@ -253,9 +263,14 @@ class GridMarcher {
         const j1 = Math.min(bj * B + B, cy), i1 = Math.min(bi * B + B, cx);
         const i0b = bi * B;
         const touches = i0b === 0 || bj === 0 || bk === 0 || i1 === cx || j1 === cy || Math.min(bk * B + B, cz) === cz;
-        for (let j = bj * B; j < j1; j++) {
-          if (touches) this.rowNearBounds(i0b, i1, j, k, p0, p1, thr0, kOuterLayer || j === 0 || j === cy - 1);
-          else this.row(i0b, i1, j, k, p0, p1, thr0);
+        if (touches) {
+          for (let j = bj * B; j < j1; j++) this.rowNearBounds(i0b, i1, j, k, p0, p1, thr0, kOuterLayer || j === 0 || j === cy - 1);
+        } else if (B === 8) {
+          this.fillBits(k, bi, bj);
+          this.fillBits(k + 1, bi, bj);
+          for (let j = bj * B; j < j1; j++) this.rowFromBits(bi, j, k, p0, p1, thr0);
+        } else {
+          for (let j = bj * B; j < j1; j++) this.row(i0b, i1, j, k, p0, p1, thr0);
         }
       }
     }
@@ -309,6 +324,58 @@ class GridMarcher {
         this.cell(mask, i, j, k, p0, p1, thr0);
       }
       a0 = a1; a2 = a3; a4 = a5; a6 = a7;
+    }
+  }
+
+  /** Fills the inside bits of plane `plane`'s node rows bj·8 … bj·8 + 8 in block column bi, once per plane. */
+  fillBits(plane: number, bi: number, bj: number): void {
+    const { bits, bitsPlane, values, nx, nxy, bx, level } = this;
+    const slot = plane & 1;
+    const stamp = slot * bx * this.by + bi + bx * bj;
+    if (bitsPlane[stamp] === plane) return;
+    bitsPlane[stamp] = plane;
+    const base = slot * (nxy / nx) * bx + bi;
+    const i0 = bi * 8;
+    for (let j = bj * 8, jEnd = j + 8; j <= jEnd; j++) {
+      const r = nx * j + nxy * plane + i0;
+      let w = 0;
+      if (this.sdf) {
+        for (let c = 8; c >= 0; c--) w = (w << 1) | (values[r + c] < level ? 1 : 0);
+      } else {
+        for (let c = 8; c >= 0; c--) w = (w << 1) | (values[r + c] > level ? 1 : 0);
+      }
+      bits[base + j * bx] = w;
+    }
+  }
+
+  /**
+   * Like {@link row} for cell row (j, k) of a whole block (B = 8) away from the outer layer, from the inside
+   * bits of its four node rows: a cell has a sign change where those differ across the rows or along x, so
+   * only the surface cells read their corner values. Same cells, same order, same mesh as {@link row}.
+   */
+  rowFromBits(bi: number, j: number, k: number, p0: number, p1: number, thr0: number): void {
+    const { bits, bx, values, nx, nxy, level, sdf, v } = this;
+    const rows = nxy / nx;
+    const s0 = (k & 1) * rows * bx + bi + j * bx, s1 = ((k + 1) & 1) * rows * bx + bi + j * bx;
+    const r00 = bits[s0], r10 = bits[s0 + bx], r01 = bits[s1], r11 = bits[s1 + bx];
+    const d = (r00 ^ r10) | (r00 ^ r01) | (r00 ^ r11);
+    let cells = (d | (d >> 1) | (r00 ^ (r00 >> 1))) & 0xff;
+    const i0 = bi * 8;
+    const base = nx * j + nxy * k;
+    while (cells !== 0) {
+      const c = 31 - Math.clz32(cells & -cells);
+      cells &= cells - 1;
+      const mask = ((r00 >> c) & 3) | (((r10 >> c) & 3) << 2) | (((r01 >> c) & 3) << 4) | (((r11 >> c) & 3) << 6);
+      const i = i0 + c;
+      const b00 = base + i, b10 = b00 + nx, b01 = b00 + nxy, b11 = b01 + nx;
+      if (sdf) {
+        v[0] = values[b00] - level; v[1] = values[b00 + 1] - level; v[2] = values[b10] - level; v[3] = values[b10 + 1] - level;
+        v[4] = values[b01] - level; v[5] = values[b01 + 1] - level; v[6] = values[b11] - level; v[7] = values[b11 + 1] - level;
+      } else {
+        v[0] = level - values[b00]; v[1] = level - values[b00 + 1]; v[2] = level - values[b10]; v[3] = level - values[b10 + 1];
+        v[4] = level - values[b01]; v[5] = level - values[b01 + 1]; v[6] = level - values[b11]; v[7] = level - values[b11 + 1];
+      }
+      this.cell(mask, i, j, k, p0, p1, thr0);
     }
   }
 
