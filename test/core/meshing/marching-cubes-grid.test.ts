@@ -12,12 +12,12 @@ import { fnField, sphereSdf, torusSdf } from '../../helpers/analytic-fields.js';
 import { expectClosedManifold, rng } from '../../helpers/expect-mesh.js';
 import type { Bounds } from '../../../core/types.js';
 
-async function both(fn: (x: number, y: number, z: number) => number, bounds: Bounds, depth: number) {
+async function both(fn: (x: number, y: number, z: number) => number, bounds: Bounds, depth: number, blockSize = 4) {
   const field = fnField(fn, bounds, { lipschitz: 1e9 });
   const lat = makeLattice(bounds, depth);
   const values = await field.evaluate(latticeNodePoints(lat));
   const [nx, ny, nz] = lat.cells;
-  const grid = marchingCubesGrid(values, [nx + 1, ny + 1, nz + 1], { kind: 'sdf', level: 0, origin: lat.origin, spacing: [lat.cellSize, lat.cellSize, lat.cellSize], blockSize: 4 });
+  const grid = marchingCubesGrid(values, [nx + 1, ny + 1, nz + 1], { kind: 'sdf', level: 0, origin: lat.origin, spacing: [lat.cellSize, lat.cellSize, lat.cellSize], blockSize });
   const sparse = marchingCubes(await sampleDense(field, { depth }));
   return { grid, sparse };
 }
@@ -48,6 +48,19 @@ describe('marching cubes on a dense grid', () => {
       const at = (x: number, y: number, z: number) => vals[Math.round((x + 0.5) * n) + (n + 1) * (Math.round((y + 0.5) * n) + (n + 1) * Math.round((z + 0.5) * n))];
       // The noise is read at the nearest of its 10³ points from each node of our depth-3 lattice.
       const { grid, sparse } = await both(at, [-0.5, -0.5, -0.5, 0.5, 0.5, 0.5], 3);
+      expect(sortedTriangles(grid.mesh), `seed ${seed}`).toEqual(sortedTriangles(sparse));
+    }
+  });
+
+  test('blocks of 8 away from the outer layer (found from inside bits): noise gives the same triangles as the octree path', async () => {
+    // 33³ samples: 4 blocks of 8 cells per axis, so 8 blocks touch no outer layer and take the bit path.
+    for (let seed = 1; seed <= 4; seed++) {
+      const r = rng(100 + seed);
+      const n = 32;
+      const vals = Float32Array.from({ length: (n + 1) ** 3 }, () => r() - 0.5);
+      const at = (x: number, y: number, z: number) => vals[Math.round((x + 0.5) * n) + (n + 1) * (Math.round((y + 0.5) * n) + (n + 1) * Math.round((z + 0.5) * n))];
+      const { grid, sparse } = await both(at, [-0.5, -0.5, -0.5, 0.5, 0.5, 0.5], 5, 8);
+      expect(grid.totalBlocks).toBe(64);
       expect(sortedTriangles(grid.mesh), `seed ${seed}`).toEqual(sortedTriangles(sparse));
     }
   });
