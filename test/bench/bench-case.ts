@@ -24,7 +24,8 @@ const require = createRequire(import.meta.url);
 const ROOT = resolve(new URL('.', import.meta.url).pathname, '..', '..', '..');
 
 type Spec =
-  | { type: 'pipeline'; file: string; depth: number; threads?: number; budget?: number; lods?: number }
+  /** `checksInline`: the check stage on the calling thread, after the rest (default: on its own thread, as the CLI runs it). */
+  | { type: 'pipeline'; file: string; depth: number; threads?: number; budget?: number; lods?: number; checksInline?: boolean }
   | { type: 'usual'; file: string; depth: number; slabs?: number }
   | { type: 'raw'; file: string; depth: number }
   | { type: 'inference'; file: string; batch: number; threads?: number }
@@ -63,7 +64,8 @@ async function run(spec: Spec): Promise<Record<string, unknown>> {
     const open = (performance.now() - t0) / 1000;
     const field = timed(base);
     // As the CLI bakes: the check stage's scans on a thread of their own (app/cli/commands/bake.ts).
-    const { report } = await bakeField(field, { depth: spec.depth, budget: spec.budget, lods: spec.lods, meshChecker: checkMeshOffThread });
+    const meshChecker = spec.checksInline ? undefined : checkMeshOffThread;
+    const { report } = await bakeField(field, { depth: spec.depth, budget: spec.budget, lods: spec.lods, meshChecker });
     await base.dispose?.();
     const total = open + report.timings.total;
     return {
