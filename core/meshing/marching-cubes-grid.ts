@@ -10,8 +10,8 @@
  *   in order; vertex ids of the edges live in a flat ring of two node planes (x, y and z edges per node),
  *   checked against the vertex count at the start of the layer that could have made them, so nothing needs
  *   clearing or carrying. No hashing: each sign-changing edge gets one vertex, the first time a cell meets it.
- * - Cell loops come from a flat table filled on first use from cell-loops.ts, with the triangulation's
- *   allowed fans (mesh-builder.ts `fanStarts`) stored beside them.
+ * - Cell loops come from the flat table of cell-plan.ts (filled on first use from cell-loops.ts, with the
+ *   triangulation's allowed fans beside them), shared with the octree path.
  * - Each cell is triangulated exactly as the octree path does (cell-loops.ts: face walking with the
  *   asymptotic decider; MeshBuilder.addFan), with the same `EDGE_MARGIN` and the same rule that the
  *   grid's outer layer counts as outside, so on the same lattice both paths give the same mesh.
@@ -29,8 +29,9 @@
  * Vertices are numbered at first touch in cell order (cell layer, block, row, cell).
  */
 import type { FieldKind, MeshData } from '../types.js';
-import { cellLoops, EDGE_AXIS, EDGE_CORNERS, edgeCrossing, FACE_UV_CORNERS, insideJoined } from './cell-loops.js';
-import { fanStarts, MeshBuilder } from './mesh-builder.js';
+import { EDGE_AXIS, edgeCrossing } from './cell-loops.js';
+import { cellPlanAt, cellPlanKey, EDGE_C0, EDGE_C1, EDGE_UPPER, PLAN } from './cell-plan.js';
+import { MeshBuilder } from './mesh-builder.js';
 
 /** Options for {@link marchingCubesGrid}. */
 export interface MarchingCubesGridOptions {
@@ -406,18 +407,7 @@ class GridMarcher {
   cell(mask: number, i: number, j: number, k: number, p0: number, p1: number, thr0: number): void {
     const { v, ids, out, loopIds, edgeSlot, firstCur } = this;
     this.surfaceCells++;
-    let faceBits = 0;
-    const amb = AMBIGUOUS_FACES[mask];
-    if (amb !== 0) {
-      for (let f = 0; f < 6; f++) {
-        if (((amb >> f) & 1) === 0) continue;
-        const fc = FACE_UV_CORNERS[f];
-        if (insideJoined(v[fc[0]], v[fc[1]], v[fc[2]], v[fc[3]])) faceBits |= 1 << f;
-      }
-    }
-    const key = mask | (faceBits << 8);
-    let at = key * PLAN_STRIDE;
-    if (PLAN[at] === 0) addPlan(key);
+    let at = cellPlanAt(cellPlanKey(mask, v));
     const nodeSlot = 6 * (i + this.nx * j);
     for (let loops = PLAN[at++]; loops > 0; loops--) {
       const n = PLAN[at++];
@@ -582,40 +572,6 @@ function endNotAbove(values: Float32Array, i: number, end: number, level: number
       +(values[i + 4] > level) | +(values[i + 5] > level) | +(values[i + 6] > level) | +(values[i + 7] > level)) !== 0) break;
   while (i < end && !(values[i] > level)) i++;
   return i;
-}
-
-const EDGE_C0 = Int8Array.from(EDGE_CORNERS, (c) => c[0]);
-const EDGE_C1 = Int8Array.from(EDGE_CORNERS, (c) => c[1]);
-/** 1 when the edge's lower corner is on the cell's upper (k + 1) plane. */
-const EDGE_UPPER = Int8Array.from(EDGE_CORNERS, (c) => (c[0] >> 2) & 1);
-
-/** For each inside-corner mask, the faces (bit f) whose four corners make the ambiguous pattern. */
-const AMBIGUOUS_FACES = Uint8Array.from({ length: 256 }, (_, mask) => {
-  let bits = 0;
-  for (let f = 0; f < 6; f++) {
-    const [c00, c10, c01, c11] = FACE_UV_CORNERS[f].map((c) => ((mask >> c) & 1) === 1);
-    if (c00 === c11 && c10 === c01 && c00 !== c10) bits |= 1 << f;
-  }
-  return bits;
-});
-
-/**
- * The cell loops of each configuration (key = mask | faceBits << 8), flattened on first use at
- * key · PLAN_STRIDE: [loop count (0: not made yet), then per loop: n, fanStarts, n edge ids]. A cell has at
- * most 4 loops over at most 12 edges, so 1 + 2·4 + 12 = 21 entries; allocated once so the array never moves.
- */
-const PLAN_STRIDE = 21;
-const PLAN = new Int16Array((1 << 14) * PLAN_STRIDE);
-
-function addPlan(key: number): void {
-  const loops = cellLoops(key & 255, key >> 8);
-  let at = key * PLAN_STRIDE;
-  PLAN[at++] = loops.length;
-  for (const l of loops) {
-    PLAN[at++] = l.length;
-    PLAN[at++] = fanStarts(l, l.length);
-    for (const e of l) PLAN[at++] = e;
-  }
 }
 
 /** Inside bits of a cell face's 4 samples: bit y + 2z (raw values, before the outer-layer rule). */

@@ -15,13 +15,15 @@
  *   Three distinct points in the relative interiors of cube edges are never collinear (a line meets a
  *   convex body's boundary in at most two points unless it lies in a face, and inside a face it meets
  *   the edges at two points), so no triangle has zero area.
- * - Polygons are triangulated by `MeshBuilder.addLoop` (fans that keep diagonals off the cell faces).
+ * - Polygons come from the plan table of cell-plan.ts (shared with the dense-grid driver) and are
+ *   triangulated by `MeshBuilder.addFan` (fans that keep diagonals off the cell faces).
  */
 import type { MeshData } from '../types.js';
 import type { SurfaceCells } from '../sampling/sample-octree.js';
 import { KeyMap } from '../sampling/key-map.js';
 import { MeshBuilder } from './mesh-builder.js';
-import { cellFaceBits, cellLoops, EDGE_AXIS, EDGE_CORNERS, edgeCrossing } from './cell-loops.js';
+import { EDGE_AXIS, edgeCrossing } from './cell-loops.js';
+import { cellPlanAt, cellPlanKey, EDGE_C0, EDGE_C1, EDGE_UPPER, PLAN } from './cell-plan.js';
 
 export { EDGE_MARGIN } from './cell-loops.js';
 
@@ -51,7 +53,7 @@ export function marchingCubes(cells: SurfaceCells): MeshData {
   let planeZ = -1;
   const out = new MeshBuilder(count * 2);
   const v = new Float64Array(8);
-  const loopIds: number[] = [];
+  const loopIds = new Int32Array(16);
   for (let c = 0; c < count; c++) {
     const i = coords[3 * c], j = coords[3 * c + 1], k = coords[3 * c + 2];
     if (usePlanes && k !== planeZ) {
@@ -68,33 +70,40 @@ export function marchingCubes(cells: SurfaceCells): MeshData {
       v[q] = corners[8 * c + q];
       if (v[q] < 0) mask |= 1 << q;
     }
-    const faceBits = cellFaceBits(v);
-    for (const loop of cellLoops(mask, faceBits)) {
-      loopIds.length = 0;
-      for (const e of loop) {
-        const [c0, c1] = EDGE_CORNERS[e];
+    // The cell's loops, each with its allowed fans, from the plan table shared with the dense-grid driver.
+    let at = cellPlanAt(cellPlanKey(mask, v));
+    for (let loops = PLAN[at++]; loops > 0; loops--) {
+      const n = PLAN[at++];
+      const starts = PLAN[at++];
+      for (let m = 0; m < n; m++) {
+        const e = PLAN[at++];
+        const c0 = EDGE_C0[e];
         const a = EDGE_AXIS[e];
-        const i0 = i + (c0 & 1), j0 = j + ((c0 >> 1) & 1), k0 = k + ((c0 >> 2) & 1);
+        const i0 = i + (c0 & 1), j0 = j + ((c0 >> 1) & 1), k0 = k + EDGE_UPPER[e];
         let id: number;
-        let slot = 0;
-        let ids: Int32Array | null = null;
-        let st: Int32Array | null = null;
         if (usePlanes) {
-          slot = 3 * (i0 + (nx + 1) * j0) + a;
-          [ids, st] = k0 === k ? [ids0!, st0!] : [ids1!, st1!];
-          id = st[slot] === k0 + 1 ? ids[slot] : NaN;
-        } else id = edgeVertex!.get(3 * (i0 + (nx + 1) * (j0 + (ny + 1) * k0)) + a);
-        if (Number.isNaN(id)) {
-          const t = edgeCrossing(v[c0], v[c1]);
-          id = out.addVertex(ox + h * (i0 + (a === 0 ? t : 0)), oy + h * (j0 + (a === 1 ? t : 0)), oz + h * (k0 + (a === 2 ? t : 0)));
-          if (usePlanes) {
-            ids![slot] = id;
-            st![slot] = k0 + 1;
-          } else edgeVertex!.set(3 * (i0 + (nx + 1) * (j0 + (ny + 1) * k0)) + a, id);
+          const slot = 3 * (i0 + (nx + 1) * j0) + a;
+          const ids = k0 === k ? ids0! : ids1!, st = k0 === k ? st0! : st1!;
+          if (st[slot] === k0 + 1) id = ids[slot];
+          else {
+            const t = edgeCrossing(v[c0], v[EDGE_C1[e]]);
+            id = out.addVertex(ox + h * (i0 + (a === 0 ? t : 0)), oy + h * (j0 + (a === 1 ? t : 0)), oz + h * (k0 + (a === 2 ? t : 0)));
+            ids[slot] = id;
+            st[slot] = k0 + 1;
+          }
+        } else {
+          const key = 3 * (i0 + (nx + 1) * (j0 + (ny + 1) * k0)) + a;
+          id = edgeVertex!.get(key);
+          if (Number.isNaN(id)) {
+            const t = edgeCrossing(v[c0], v[EDGE_C1[e]]);
+            id = out.addVertex(ox + h * (i0 + (a === 0 ? t : 0)), oy + h * (j0 + (a === 1 ? t : 0)), oz + h * (k0 + (a === 2 ? t : 0)));
+            edgeVertex!.set(key, id);
+          }
         }
-        loopIds.push(id);
+        loopIds[m] = id;
       }
-      out.addLoop(loop, loopIds, loopIds.length);
+      if (n === 3) out.addTriangle(loopIds[0], loopIds[1], loopIds[2]);
+      else out.addFan(starts, loopIds, n);
     }
   }
   return out.toMesh();
