@@ -29,8 +29,8 @@
  * Vertices are numbered at first touch in cell order (cell layer, block, row, cell).
  */
 import type { FieldKind, MeshData } from '../types.js';
-import { EDGE_AXIS, edgeCrossing, FACE_UV_CORNERS, insideJoined } from './cell-loops.js';
-import { AMBIGUOUS_FACES, cellPlanAt, EDGE_C0, EDGE_C1, EDGE_UPPER, PLAN, PLAN_STRIDE } from './cell-plan.js';
+import { EDGE_AXIS, edgeCrossing } from './cell-loops.js';
+import { cellPlanAt, cellPlanKey, EDGE_C0, EDGE_C1, EDGE_UPPER, PLAN } from './cell-plan.js';
 import { MeshBuilder } from './mesh-builder.js';
 
 /** Options for {@link marchingCubesGrid}. */
@@ -407,19 +407,7 @@ class GridMarcher {
   cell(mask: number, i: number, j: number, k: number, p0: number, p1: number, thr0: number): void {
     const { v, ids, out, loopIds, edgeSlot, firstCur } = this;
     this.surfaceCells++;
-    // The plan key (cell-plan.ts cellPlanKey, written out here: this is the hottest call site).
-    let faceBits = 0;
-    const amb = AMBIGUOUS_FACES[mask];
-    if (amb !== 0) {
-      for (let f = 0; f < 6; f++) {
-        if (((amb >> f) & 1) === 0) continue;
-        const fc = FACE_UV_CORNERS[f];
-        if (insideJoined(v[fc[0]], v[fc[1]], v[fc[2]], v[fc[3]])) faceBits |= 1 << f;
-      }
-    }
-    const key = mask | (faceBits << 8);
-    let at = key * PLAN_STRIDE;
-    if (PLAN[at] === 0) cellPlanAt(key);
+    let at = cellPlanAt(cellPlanKey(mask, v));
     const nodeSlot = 6 * (i + this.nx * j);
     for (let loops = PLAN[at++]; loops > 0; loops--) {
       const n = PLAN[at++];

@@ -13,6 +13,7 @@ import { bakeField, type BakeReport } from '../../../core/pipeline/bake-field.js
 import { CancelledError, FieldkilnError, type MeshData } from '../../../core/types.js';
 import { checkMeshOffThread } from '../../../app/node/check-mesh-off-thread.js';
 import { fnField, sphereSdf, torusSdf } from '../../helpers/analytic-fields.js';
+import { combineMeshes } from '../../helpers/combine-meshes.js';
 
 const torus = fnField(torusSdf(0.5, 0.2), [-0.8, -0.3, -0.8, 0.8, 0.3, 0.8]);
 const torusMesh = async (depth = 6) => marchingCubes(await sampleOctree(torus, { depth }));
@@ -21,14 +22,7 @@ const torusMesh = async (depth = 6) => marchingCubes(await sampleOctree(torus, {
 async function overlappingSpheres(): Promise<MeshData> {
   const a = marchingCubes(await sampleOctree(fnField(sphereSdf(0.4, [-0.15, 0, 0]), [-0.6, -0.45, -0.45, 0.3, 0.45, 0.45]), { depth: 5 }));
   const b = marchingCubes(await sampleOctree(fnField(sphereSdf(0.4, [0.15, 0, 0]), [-0.3, -0.45, -0.45, 0.6, 0.45, 0.45]), { depth: 5 }));
-  const va = a.positions.length / 3;
-  const positions = new Float32Array(a.positions.length + b.positions.length);
-  positions.set(a.positions);
-  positions.set(b.positions, a.positions.length);
-  const indices = new Uint32Array(a.indices.length + b.indices.length);
-  indices.set(a.indices);
-  for (let q = 0; q < b.indices.length; q++) indices[a.indices.length + q] = b.indices[q] + va;
-  return { positions, indices };
+  return combineMeshes(a, b);
 }
 
 const withoutSeconds = ({ seconds, ...rest }: MeshChecks) => (expect(seconds).toBeGreaterThanOrEqual(0), rest);

@@ -10,20 +10,9 @@ import { marchingCubes } from '../../../core/meshing/marching-cubes.js';
 import { dualContour } from '../../../core/meshing/dual-contouring.js';
 import type { MeshData } from '../../../core/types.js';
 import { fnField, sphereSdf } from '../../helpers/analytic-fields.js';
+import { combineMeshes } from '../../helpers/combine-meshes.js';
 
 const mesh = (pos: number[], idx: number[]): MeshData => ({ positions: Float32Array.from(pos), indices: Uint32Array.from(idx) });
-
-/** Two meshes side by side in one buffer (indices of the second shifted). */
-function combine(a: MeshData, b: MeshData): MeshData {
-  const va = a.positions.length / 3;
-  const positions = new Float32Array(a.positions.length + b.positions.length);
-  positions.set(a.positions);
-  positions.set(b.positions, a.positions.length);
-  const indices = new Uint32Array(a.indices.length + b.indices.length);
-  indices.set(a.indices);
-  for (let q = 0; q < b.indices.length; q++) indices[a.indices.length + q] = b.indices[q] + va;
-  return { positions, indices };
-}
 
 describe('findSelfIntersections', () => {
   it('two triangles crossing like links of a chain give one pair', () => {
@@ -131,7 +120,7 @@ describe('findSelfIntersections', () => {
       // The second copy is moved by 0.3 m: the spheres (r = 0.3 m) overlap, so their surfaces meet
       // in a circle; every triangle pair along it crosses.
       const moved = { positions: sphere.positions.map((v, q) => (q % 3 === 0 ? v + 0.3 : v)), indices: sphere.indices };
-      const pairs = findSelfIntersections(combine(sphere, moved));
+      const pairs = findSelfIntersections(combineMeshes(sphere, moved));
       expect(pairs.length / 2).toBeGreaterThan(50);
       const T = sphere.indices.length / 3;
       for (let q = 0; q < pairs.length; q += 2) {
