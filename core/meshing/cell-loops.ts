@@ -136,20 +136,6 @@ export function cellLoops(mask: number, faceBits: number): readonly (readonly nu
   return loops;
 }
 
-/**
- * Face bits of a cell with corner values `v` (8, negative inside): bit f set when face f is ambiguous
- * and the asymptotic decider joins its inside corners.
- */
-export function cellFaceBits(v: ArrayLike<number>): number {
-  let faceBits = 0;
-  for (let f = 0; f < 6; f++) {
-    const fc = FACE_UV_CORNERS[f];
-    if (!isAmbiguousFace(v[fc[0]] < 0, v[fc[1]] < 0, v[fc[2]] < 0, v[fc[3]] < 0)) continue;
-    if (insideJoined(v[fc[0]], v[fc[1]], v[fc[2]], v[fc[3]])) faceBits |= 1 << f;
-  }
-  return faceBits;
-}
-
 /** Fraction of an edge's length that a vertex keeps from either end. */
 export const EDGE_MARGIN = 1e-3;
 

@@ -27,7 +27,7 @@ export const AMBIGUOUS_FACES = Uint8Array.from({ length: 256 }, (_, mask) => {
 /**
  * The plan key of a cell with inside-corner `mask` and signed corner values `v` (negative inside):
  * mask | faceBits << 8, where faceBits marks the ambiguous faces whose inside corners the asymptotic
- * decider joins (the same bits as cell-loops.ts `cellFaceBits`).
+ * decider (cell-loops.ts `insideJoined`) joins.
  */
 export function cellPlanKey(mask: number, v: ArrayLike<number>): number {
   let faceBits = 0;

@@ -73,12 +73,6 @@ export class MeshBuilder {
     this.indexCount = o + 3;
   }
 
-  /** Triangulates one polygon: vertex `ids` in order, lying on cell edges `edges` (same order). */
-  addLoop(edges: readonly number[], ids: ArrayLike<number>, n: number): void {
-    if (n === 3) this.addTriangle(ids[0], ids[1], ids[2]);
-    else this.addFan(fanStarts(edges, n), ids, n);
-  }
-
   /**
    * Triangulates one polygon of `n` ≥ 4 vertices given {@link fanStarts} of its edges: the fan (or, for
    * a quad, the diagonal) whose smallest triangle is largest among the allowed ones, else a centroid fan.
