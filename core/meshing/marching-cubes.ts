@@ -80,25 +80,24 @@ export function marchingCubes(cells: SurfaceCells): MeshData {
         const c0 = EDGE_C0[e];
         const a = EDGE_AXIS[e];
         const i0 = i + (c0 & 1), j0 = j + ((c0 >> 1) & 1), k0 = k + EDGE_UPPER[e];
-        let id: number;
-        if (usePlanes) {
-          const slot = 3 * (i0 + (nx + 1) * j0) + a;
-          const ids = k0 === k ? ids0! : ids1!, st = k0 === k ? st0! : st1!;
+        // The edge's vertex: from the two stamped planes, or the hash map for very wide lattices; made once.
+        let id = -1, slot = 0, key = 0;
+        const ids = k0 === k ? ids0 : ids1, st = k0 === k ? st0 : st1;
+        if (st && ids) {
+          slot = 3 * (i0 + (nx + 1) * j0) + a;
           if (st[slot] === k0 + 1) id = ids[slot];
-          else {
-            const t = edgeCrossing(v[c0], v[EDGE_C1[e]]);
-            id = out.addVertex(ox + h * (i0 + (a === 0 ? t : 0)), oy + h * (j0 + (a === 1 ? t : 0)), oz + h * (k0 + (a === 2 ? t : 0)));
+        } else {
+          key = 3 * (i0 + (nx + 1) * (j0 + (ny + 1) * k0)) + a;
+          const got = edgeVertex!.get(key);
+          if (!Number.isNaN(got)) id = got;
+        }
+        if (id < 0) {
+          const t = edgeCrossing(v[c0], v[EDGE_C1[e]]);
+          id = out.addVertex(ox + h * (i0 + (a === 0 ? t : 0)), oy + h * (j0 + (a === 1 ? t : 0)), oz + h * (k0 + (a === 2 ? t : 0)));
+          if (st && ids) {
             ids[slot] = id;
             st[slot] = k0 + 1;
-          }
-        } else {
-          const key = 3 * (i0 + (nx + 1) * (j0 + (ny + 1) * k0)) + a;
-          id = edgeVertex!.get(key);
-          if (Number.isNaN(id)) {
-            const t = edgeCrossing(v[c0], v[EDGE_C1[e]]);
-            id = out.addVertex(ox + h * (i0 + (a === 0 ? t : 0)), oy + h * (j0 + (a === 1 ? t : 0)), oz + h * (k0 + (a === 2 ? t : 0)));
-            edgeVertex!.set(key, id);
-          }
+          } else edgeVertex!.set(key, id);
         }
         loopIds[m] = id;
       }
