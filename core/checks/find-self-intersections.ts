@@ -21,19 +21,18 @@
  * the two boxes, so no pair is tested twice and no set of visited pairs is kept. Triangles with a
  * non-finite box are paired with every other triangle.
  *
- * Fixed test order: the pair test can round differently when its two triangles swap, so each pair is
- * tested in the order an earlier version of this file (a linear BVH: Lauterbach et al. 2009) met it,
- * which ranks triangles by their leaf in that BVH: the Morton order of their centroids (10 bits per
- * axis, ties by index), cut into halves down to 4 per leaf, leaves numbered as that build numbered them.
- * The rank needs only the sort, not the tree's boxes; it keeps every answer identical to that version's.
+ * Test order: the pair test can round differently when its two triangles swap, so each pair is tested
+ * with the lower triangle index first, wherever it is met.
  *
- * Measured (node 20, 0.9M-triangle marching-cubes torus at octree depth 9, on a shared 2-core machine,
- * so figures vary by ±30%): the linear BVH version took 2.5–3.1 s, the grid version 1.0–1.2 s with the
- * same output. Where the BVH version's time went (CPU profile): about half in each leaf's walk of the
- * tree, a third in the pair test on small tuples (one array per point, mostly allocation), and 0.2–0.3 s
- * sorting 1M float64 Morton keys (`code × n + index`), which the radix sort replaces. Fresh memory is
- * slow to first touch on that machine (about 4 ms per MB: 48 MB of Float64Array took 170–240 ms), so
- * boxes are float32 and the grid keeps 16-bit low corners and no second copy of its cell table.
+ * Measured (node 20, on a shared 2-core machine, so figures vary by ±30%): on a 0.9M-triangle
+ * marching-cubes torus at octree depth 9, an earlier linear BVH took 2.5–3.1 s, the grid 1.0–1.2 s with
+ * the same output. On the 1.1M-triangle depth-9 sphere_sdf.onnx mesh (31.8M cell pairs, 26.3M passing
+ * the home-cell test, 8.4M boxes overlapping), best of 6 alternating: 902 ms when the pair test read the
+ * mesh's arrays for every overlapping pair and the pairs were ordered by the BVH's leaf rank (a Morton
+ * sort, 90 ms); 732 ms with the plane-side rejection on the cell's copies and pairs ordered by index
+ * (same pairs on six meshes, from 0 to 902,264 crossings). Sorting each cell's triangles by x to end
+ * its loop early measured no faster (751 ms). Fresh memory is slow to first touch on that machine
+ * (about 4 ms per MB), so boxes are float32 and the grid keeps 16-bit low corners.
  */
 import type { MeshData } from '../types.js';
 import { planesSeparate, trianglePairIntersects, trianglePlanes, type TrianglePlanes } from './triangle-pair-intersects.js';
@@ -90,7 +89,7 @@ export function findSelfIntersections(mesh: MeshData, options: FindSelfIntersect
   const { box, all } = triangleBoxes(P, I, n);
   const diag = Math.hypot(all[3] - all[0], all[4] - all[1], all[5] - all[2]);
   const eps = tolerance * diag;
-  const pt: PairTest = { P, I, box, rank: leafRank(P, I, n), planes: trianglePlanes(P, I, n), eps, pairs: [] };
+  const pt: PairTest = { P, I, box, planes: trianglePlanes(P, I, n), eps, pairs: [] };
 
   const finiteBounds = Number.isFinite(eps) && all.every((x) => Number.isFinite(x));
   // Triangles the grid cannot place: paired with every other triangle.
@@ -153,25 +152,20 @@ interface PairTest {
   P: Float32Array;
   I: Uint32Array;
   box: Float32Array;
-  rank: Uint32Array;
   planes: TrianglePlanes;
   eps: number;
   pairs: number[];
 }
 
-/** Tests triangles a and b in rank order: the box overlap within ε exactly as the BVH version wrote it, then the pair test. */
+/** Tests triangles a and b, the lower index first: their boxes within ε, then the pair test. */
 function testPair(pt: PairTest, a: number, b: number): void {
-  const { box, rank, eps } = pt;
-  let t = a, u = b;
-  if (rank[b] < rank[a]) {
-    t = b;
-    u = a;
-  }
+  const { box, eps } = pt;
+  const t = a < b ? a : b, u = a < b ? b : a;
   const tb = 6 * t, ub = 6 * u;
   if (box[ub] > box[tb + 3] + eps || box[ub + 1] > box[tb + 4] + eps || box[ub + 2] > box[tb + 5] + eps) return;
   if (box[ub + 3] < box[tb] - eps || box[ub + 4] < box[tb + 1] - eps || box[ub + 5] < box[tb + 2] - eps) return;
   if (planesSeparate(pt.P, pt.I, pt.planes.planes, t, u, eps) || !trianglePairIntersects(pt.P, pt.I, pt.planes, t, u, eps)) return;
-  pt.pairs.push(Math.min(t, u), Math.max(t, u));
+  pt.pairs.push(t, u);
 }
 
 /**
@@ -228,12 +222,36 @@ function testGridPairs(pt: PairTest, inGrid: Uint8Array, count: number, all: num
     if (pass === 0) for (let c = 0; c < cellCount; c++) end[c + 1] += end[c];
   }
 
-  // Per cell, its triangles' boxes (grown by pad) and which of their low corners lie in this cell's
-  // row, column and layer are copied side by side first: the pair loop then reads only these.
+  // Per cell, its triangles' boxes (grown by pad), which of their low corners lie in this cell's row,
+  // column and layer, their vertex indices, planes and corners are copied side by side first: the pair
+  // loop and the plane-side rejection then read only these, not the mesh's arrays at random places.
   let most = 0;
   for (let c = 0; c < cellCount; c++) most = Math.max(most, end[c] - (c === 0 ? 0 : end[c - 1]));
+  const { P, I } = pt;
+  const planes = pt.planes.planes;
   const cellBox = new Float64Array(6 * most);
   const cellHome = new Uint8Array(most);
+  const cellVert = new Int32Array(3 * most);
+  const cellPlane = new Float64Array(4 * most);
+  const cellCorner = new Float64Array(9 * most);
+  /** The vertices of cell triangle k not shared with cell triangle l all lie beyond ε on one side of l's plane (as `planesSeparate` tests it). */
+  const oneSide = (l: number, k: number): boolean => {
+    const lp = 4 * l, nx = cellPlane[lp], ny = cellPlane[lp + 1], nz = cellPlane[lp + 2], d = cellPlane[lp + 3];
+    if (nx === 0 && ny === 0 && nz === 0) return false;
+    const l0 = cellVert[3 * l], l1 = cellVert[3 * l + 1], l2 = cellVert[3 * l + 2];
+    let above = 0, below = 0, free = 0;
+    for (let q = 0; q < 3; q++) {
+      const v = cellVert[3 * k + q];
+      if (v === l0 || v === l1 || v === l2) continue;
+      free++;
+      const kc = 9 * k + 3 * q;
+      const dist = nx * cellCorner[kc] + ny * cellCorner[kc + 1] + nz * cellCorner[kc + 2] - d;
+      if (dist > eps) above++;
+      else if (dist < -eps) below++;
+      else return false;
+    }
+    return free > 0 && (above === free || below === free);
+  };
   for (let z = 0, c = 0; z < nz; z++) {
     for (let y = 0; y < ny; y++) {
       for (let x = 0; x < nx; x++, c++) {
@@ -248,6 +266,14 @@ function testGridPairs(pt: PairTest, inGrid: Uint8Array, count: number, all: num
           cellBox[6 * k + 3] = box[ab + 3] + pad;
           cellBox[6 * k + 4] = box[ab + 4] + pad;
           cellBox[6 * k + 5] = box[ab + 5] + pad;
+          for (let q = 0; q < 3; q++) {
+            const v = I[al + q];
+            cellVert[3 * k + q] = v;
+            cellCorner[9 * k + 3 * q] = P[3 * v];
+            cellCorner[9 * k + 3 * q + 1] = P[3 * v + 1];
+            cellCorner[9 * k + 3 * q + 2] = P[3 * v + 2];
+          }
+          for (let q = 0; q < 4; q++) cellPlane[4 * k + q] = planes[4 * a + q];
         }
         for (let i = 0; i < e - s; i++) {
           const hi = cellHome[i], ib = 6 * i;
@@ -259,6 +285,8 @@ function testGridPairs(pt: PairTest, inGrid: Uint8Array, count: number, all: num
             // A looser box test than the exact one (both grown by pad), in either order.
             const jb = 6 * j;
             if (cellBox[jb] > x1 || cellBox[jb + 1] > y1 || cellBox[jb + 2] > z1 || cellBox[jb + 3] < x0 || cellBox[jb + 4] < y0 || cellBox[jb + 5] < z0) continue;
+            // Most neighbours part here, by their planes (symmetric in the two), before the exact box test.
+            if (oneSide(i, j) || oneSide(j, i)) continue;
             testPair(pt, list[s + i], list[s + j]);
           }
         }
@@ -295,84 +323,3 @@ function placeTriangles(box: Float32Array, inGrid: Uint8Array, all: number[], di
   }
   return entries;
 }
-
-/**
- * Each triangle's rank in the order the BVH version visited pairs: leaf number × 4 + place in the leaf.
- * Morton codes of the centroids (10 bits per axis) sorted by a stable 3-pass radix sort (ties by index),
- * then the index range halved down to 4 per leaf, nodes numbered as that build's work stack numbered them.
- * Below 2^30 triangles the rank fits 32 bits.
- */
-function leafRank(P: Float32Array, I: Uint32Array, n: number): Uint32Array {
-  const lo = [Infinity, Infinity, Infinity], hi = [-Infinity, -Infinity, -Infinity];
-  for (let t = 0; t < n; t++) {
-    for (let d = 0; d < 3; d++) {
-      const c = (P[3 * I[3 * t] + d] + P[3 * I[3 * t + 1] + d] + P[3 * I[3 * t + 2] + d]) / 3;
-      if (c < lo[d]) lo[d] = c;
-      if (c > hi[d]) hi[d] = c;
-    }
-  }
-  const scale = [0, 1, 2].map((d) => (hi[d] > lo[d] ? 1023 / (hi[d] - lo[d]) : 0));
-  const codes = new Uint32Array(n);
-  for (let t = 0; t < n; t++) {
-    const a = 3 * I[3 * t], b = 3 * I[3 * t + 1], c = 3 * I[3 * t + 2];
-    codes[t] = morton3(
-      Math.floor(((P[a] + P[b] + P[c]) / 3 - lo[0]) * scale[0]),
-      Math.floor(((P[a + 1] + P[b + 1] + P[c + 1]) / 3 - lo[1]) * scale[1]),
-      Math.floor(((P[a + 2] + P[b + 2] + P[c + 2]) / 3 - lo[2]) * scale[2]),
-    );
-  }
-  let order = new Uint32Array(n);
-  let next = new Uint32Array(n);
-  for (let t = 0; t < n; t++) order[t] = t;
-  const bucket = new Uint32Array(1025);
-  for (let shift = 0; shift < 30; shift += 10) {
-    bucket.fill(0);
-    for (let t = 0; t < n; t++) bucket[((codes[t] >>> shift) & 1023) + 1]++;
-    for (let k = 0; k < 1024; k++) bucket[k + 1] += bucket[k];
-    for (let q = 0; q < n; q++) {
-      const t = order[q];
-      next[bucket[(codes[t] >>> shift) & 1023]++] = t;
-    }
-    [order, next] = [next, order];
-  }
-
-  const rank = codes; // the codes are no longer needed
-  // Depth-first over (node, begin, end); one pending sibling per level, so 3 × 64 slots suffice.
-  const work = new Float64Array(3 * 64);
-  work[2] = n;
-  let sp = 3;
-  let used = 1;
-  while (sp > 0) {
-    const stop = work[--sp], begin = work[--sp], node = work[--sp];
-    if (stop - begin <= 4) {
-      for (let q = begin; q < stop; q++) rank[order[q]] = 4 * node + (q - begin);
-      continue;
-    }
-    const mid = Math.floor((begin + stop) / 2);
-    const l = used;
-    used += 2;
-    work[sp++] = l;
-    work[sp++] = begin;
-    work[sp++] = mid;
-    work[sp++] = l + 1;
-    work[sp++] = mid;
-    work[sp++] = stop;
-  }
-  return rank;
-}
-
-/** Interleaves the bits of three 10-bit integers into a 30-bit Morton code. */
-function morton3(x: number, y: number, z: number): number {
-  return spread10(x) | (spread10(y) << 1) | (spread10(z) << 2);
-}
-
-/** Spreads the 10 low bits of v so that two zero bits separate each. */
-function spread10(v: number): number {
-  v &= 0x3ff;
-  v = (v | (v << 16)) & 0x30000ff;
-  v = (v | (v << 8)) & 0x300f00f;
-  v = (v | (v << 4)) & 0x30c30c3;
-  v = (v | (v << 2)) & 0x9249249;
-  return v;
-}
-
