@@ -278,6 +278,10 @@ function testGridPairs(pt: PairTest, inGrid: Uint8Array, count: number, all: num
         for (let i = 0; i < e - s; i++) {
           const hi = cellHome[i], ib = 6 * i;
           const x0 = cellBox[ib], y0 = cellBox[ib + 1], z0 = cellBox[ib + 2], x1 = cellBox[ib + 3], y1 = cellBox[ib + 4], z1 = cellBox[ib + 5];
+          // Triangle i's plane and vertices, for the plane-side rejection of its partners' corners.
+          const ip = 4 * i, nx = cellPlane[ip], ny = cellPlane[ip + 1], nz = cellPlane[ip + 2], d = cellPlane[ip + 3];
+          const flat = nx === 0 && ny === 0 && nz === 0;
+          const i0 = cellVert[3 * i], i1 = cellVert[3 * i + 1], i2 = cellVert[3 * i + 2];
           for (let j = i + 1; j < e - s; j++) {
             // The overlap's low corner is the larger of the two low corners (both at most this cell's),
             // so it lies in this cell when, on each axis, one of the two lies here.
@@ -285,8 +289,26 @@ function testGridPairs(pt: PairTest, inGrid: Uint8Array, count: number, all: num
             // A looser box test than the exact one (both grown by pad), in either order.
             const jb = 6 * j;
             if (cellBox[jb] > x1 || cellBox[jb + 1] > y1 || cellBox[jb + 2] > z1 || cellBox[jb + 3] < x0 || cellBox[jb + 4] < y0 || cellBox[jb + 5] < z0) continue;
-            // Most neighbours part here, by their planes (symmetric in the two), before the exact box test.
-            if (oneSide(i, j) || oneSide(j, i)) continue;
+            // Most neighbours part here, by their planes (as `planesSeparate` tests it, in either order),
+            // before the exact box test: first j's corners against i's plane.
+            if (!flat) {
+              let above = 0, below = 0, free = 0;
+              for (let q = 0; q < 3; q++) {
+                const v = cellVert[3 * j + q];
+                if (v === i0 || v === i1 || v === i2) continue;
+                free++;
+                const jc = 9 * j + 3 * q;
+                const dist = nx * cellCorner[jc] + ny * cellCorner[jc + 1] + nz * cellCorner[jc + 2] - d;
+                if (dist > eps) above++;
+                else if (dist < -eps) below++;
+                else {
+                  free = -1;
+                  break;
+                }
+              }
+              if (free > 0 && (above === free || below === free)) continue;
+            }
+            if (oneSide(j, i)) continue;
             testPair(pt, list[s + i], list[s + j]);
           }
         }
