@@ -76,7 +76,8 @@ export async function bakeVertexColors(field: Field, mesh: MeshData, options: Ba
     const a = idx[3 * t], b = idx[3 * t + 1], c = idx[3 * t + 2];
     const ux = p[3 * b] - p[3 * a], uy = p[3 * b + 1] - p[3 * a + 1], uz = p[3 * b + 2] - p[3 * a + 2];
     const vx = p[3 * c] - p[3 * a], vy = p[3 * c + 1] - p[3 * a + 1], vz = p[3 * c + 2] - p[3 * a + 2];
-    const area = 0.5 * Math.hypot(uy * vz - uz * vy, uz * vx - ux * vz, ux * vy - uy * vx);
+    const cx = uy * vz - uz * vy, cy = uz * vx - ux * vz, cz = ux * vy - uy * vx;
+    const area = 0.5 * Math.sqrt(cx * cx + cy * cy + cz * cz); // not Math.hypot (slower)
     triArea[t] = area;
     share[a] += area / 3;
     share[b] += area / 3;
@@ -96,6 +97,8 @@ export async function bakeVertexColors(field: Field, mesh: MeshData, options: Ba
   // Sample points: every vertex, then one point per (averaged vertex, incident triangle).
   const extra: number[] = []; // (vertex, x, y, z, weight) per point
   for (let t = 0; t < T; t++) {
+    if (averagedVertices === 0) break;
+    if (!averaged[idx[3 * t]] && !averaged[idx[3 * t + 1]] && !averaged[idx[3 * t + 2]]) continue;
     const c3 = [idx[3 * t], idx[3 * t + 1], idx[3 * t + 2]];
     for (let k = 0; k < 3; k++) {
       const v = c3[k];

@@ -25,7 +25,11 @@ export interface Field {
   readonly lipschitz?: number;
   /** Human-readable description of the source (file name, outputs) for reports and `inspect`. */
   readonly description: FieldDescription;
-  /** Values at `points` (3 floats per point). Resolves to one float per point. */
+  /**
+   * Values at `points` (3 floats per point). Resolves to one float per point, in an array the caller
+   * may keep. `points` stays the caller's: a source reads it before its promise settles and keeps no
+   * reference to it after (callers reuse one array for batch after batch).
+   */
   evaluate(points: Float32Array, signal?: AbortSignal): Promise<Float32Array>;
   /** Linear RGB (0..1) at `points`, 3 floats per point. Only when `hasColor`. */
   evaluateColor?(points: Float32Array, signal?: AbortSignal): Promise<Float32Array>;

@@ -19,7 +19,7 @@ export function areaWeightedNormals(positions: Float32Array, indices: Uint32Arra
   }
   const out = new Float32Array(positions.length);
   for (let v = 0; v < out.length; v += 3) {
-    const len = Math.hypot(acc[v], acc[v + 1], acc[v + 2]);
+    const len = Math.sqrt(acc[v] * acc[v] + acc[v + 1] * acc[v + 1] + acc[v + 2] * acc[v + 2]); // not Math.hypot (slower)
     if (len > 0) {
       out[v] = acc[v] / len;
       out[v + 1] = acc[v + 1] / len;

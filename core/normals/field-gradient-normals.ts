@@ -67,10 +67,13 @@ export async function fieldGradientNormals(
   const normals = new Float32Array(3 * V);
   const ok = new Uint8Array(V);
   const perBatch = batch / 6;
+  // One array of points for every batch (a field keeps no reference to it once it has answered):
+  // fresh memory is slow to first touch on some machines, and the batches add up to 72 bytes per vertex.
+  const allPts = new Float32Array(18 * Math.min(perBatch, V));
   for (let v0 = 0; v0 < V; v0 += perBatch) {
     throwIfAborted(options.signal);
     const n = Math.min(perBatch, V - v0);
-    const pts = new Float32Array(18 * n);
+    const pts = allPts.subarray(0, 18 * n);
     for (let i = 0; i < n; i++) {
       const x = positions[3 * (v0 + i)], y = positions[3 * (v0 + i) + 1], z = positions[3 * (v0 + i) + 2];
       const o = 18 * i;
@@ -88,7 +91,7 @@ export async function fieldGradientNormals(
     for (let i = 0; i < n; i++) {
       const o = 6 * i;
       const gx = sign * (f[o] - f[o + 1]), gy = sign * (f[o + 2] - f[o + 3]), gz = sign * (f[o + 4] - f[o + 5]);
-      const len = Math.hypot(gx, gy, gz);
+      const len = Math.sqrt(gx * gx + gy * gy + gz * gz); // not Math.hypot, several times slower; float32 differences cannot overflow
       if (len > 0 && Number.isFinite(len)) {
         const v = v0 + i;
         normals[3 * v] = gx / len;

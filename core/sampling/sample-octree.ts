@@ -126,6 +126,8 @@ class NodeSampler {
   private readonly pending = new IntList(1 << 14);
   private ijkScratch = new Int32Array(0);
   private valScratch = new Float32Array(0);
+  /** The points of one batch, reused for every call to the field (which keeps no reference to them). */
+  private xyzScratch = new Float32Array(0);
   evaluations = 0;
   closedAtBounds = 0;
   nonFinite = 0;
@@ -216,7 +218,8 @@ class NodeSampler {
     for (let start = 0; start < n; ) {
       throwIfAborted(opts.signal);
       const m = Math.min(opts.batchSize, n - start);
-      const xyz = new Float32Array(m * 3);
+      if (this.xyzScratch.length < 3 * m) this.xyzScratch = new Float32Array(3 * Math.min(opts.batchSize, n));
+      const xyz = this.xyzScratch.subarray(0, 3 * m);
       for (let q = 0; q < 3 * m; q += 3) {
         const t = 3 * start + q;
         xyz[q] = ox + ijk[t] * h;
@@ -437,7 +440,7 @@ export async function sampleOctree(field: Field, options: SampleOctreeOptions = 
         const i = i0 + (q & 1), j = j0 + ((q >> 1) & 1), k = k0 + (q >> 2);
         if (i >= nx || j >= ny || k >= nz) continue;
         cq[8 * p + q] = sampler.request(i0 + 2 * (q & 1), j0 + 2 * ((q >> 1) & 1), k0 + 2 * (q >> 2));
-        cc[p] = sampler.request(i0 + 1, j0 + 1, k0 + 1);
+        if (cc[p] < 0) cc[p] = sampler.request(i0 + 1, j0 + 1, k0 + 1); // after the first corner, as the queue had it
       }
     }
     await sampler.flush();
