@@ -185,7 +185,12 @@ async function run(spec: Spec): Promise<Record<string, unknown>> {
 
   // VTK's script, run once per round on a raw copy of the values (skipped with a note when VTK is absent).
   const py = '/usr/bin/python3';
-  const vtkReady = existsSync(py) && spawnSync(py, ['-c', 'import vtk, numpy'], { encoding: 'utf8' }).status === 0;
+  // The script needs VTK and NumPy under Debian's Python (packages python3-vtk9 and python3-numpy; the
+  // first does not pull in the second). The note names what is missing.
+  const vtkMissing = !existsSync(py)
+    ? `${py} is absent (Debian's python3-vtk9 and python3-numpy)`
+    : ['vtk', 'numpy'].filter((m) => spawnSync(py, ['-c', `import ${m}`], { encoding: 'utf8' }).status !== 0).map((m) => `python3-${m === 'vtk' ? 'vtk9' : m}`).join(' and ');
+  const vtkReady = vtkMissing === '';
   // The cache file already holds the raw values when there is one.
   const dir = spec.cache ? undefined : mkdtempSync(join(tmpdir(), 'fieldkiln-bench-'));
   const raw = spec.cache ?? join(dir!, 'grid.f32');
@@ -268,7 +273,7 @@ async function run(spec: Spec): Promise<Record<string, unknown>> {
     const s = (performance.now() - t0) / 1000;
     result.isosurface = { seconds: s, voxelsPerSecond: voxels / s, triangles: out.cells.length };
   }
-  if (!vtkReady) result.vtk = { skipped: "Debian's python3-vtk9 is not installed" };
+  if (!vtkReady) result.vtk = { skipped: vtkMissing.startsWith('/') ? vtkMissing : `Debian's ${vtkMissing} ${vtkMissing.includes(' and ') ? 'are' : 'is'} not installed` };
   else if (vtkError) result.vtk = { skipped: vtkError };
   else {
     const v = vtkRuns.reduce((a, b) => ((b.seconds as number) < (a.seconds as number) ? b : a));
