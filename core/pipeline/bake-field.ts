@@ -448,7 +448,7 @@ async function bakeStages(field: Field, options: BakeOptions, checkStop: AbortSi
     }
     if (shaping.lods > 0) {
       progress('decimate', 0.5);
-      lodResults = await buildLods(full, base.indices.length / 3, shaping.lods, { inputReport, inputGrid });
+      lodResults = await buildLods(full, base, shaping.lods, { inputReport, inputGrid });
       lodResults.forEach((l) => l.warnings.forEach(warn));
       if (lodResults.length === 0) warn(`no LODs were made: the base level is too small to halve`);
     }

@@ -1,6 +1,8 @@
-/** LODs: each about half the triangles of the one before, each checked closed and manifold, errors growing. */
+/** LODs: each about half the triangles of the one before, each checked closed and manifold, errors (from the full mesh) growing. */
 import { describe, expect, test } from 'vitest';
 import { buildLods, MIN_LOD_TRIANGLES } from '../../../core/decimate/build-lods.js';
+import { decimateMesh } from '../../../core/decimate/decimate-mesh.js';
+import { measureDeviation } from '../../../core/decimate/measure-deviation.js';
 import { runChecks } from '../../../core/checks/run-checks.js';
 import { analyzeMesh } from '../../../core/checks/analyze-mesh.js';
 import { sampleOctree } from '../../../core/sampling/sample-octree.js';
@@ -13,7 +15,8 @@ describe('buildLods', () => {
   test('sphere (depth 6) with a 4 000-triangle base: 3 levels of about 2 000, 1 000 and 500 triangles, all closed genus 0', async () => {
     const m = marchingCubes(await sampleOctree(fnField(sphereSdf(0.5), [-0.75, -0.75, -0.75, 0.75, 0.75, 0.75]), { depth: 6, level: 0 }));
     m.normals = areaWeightedNormals(m.positions, m.indices);
-    const lods = await buildLods(m, 4000, 3);
+    const base = (await decimateMesh(m, { targetTriangles: 4000 })).mesh;
+    const lods = await buildLods(m, base, 3);
     expect(lods.map((l) => l.targetTriangles)).toEqual([2000, 1000, 500]);
     let previous = 4000;
     let previousError = 0;
@@ -23,6 +26,8 @@ describe('buildLods', () => {
       expect(runChecks(l.mesh).filter((c) => !c.ok)).toEqual([]);
       expect(analyzeMesh(l.mesh).genus).toBe(0);
       expect(l.maxError).toBeGreaterThan(previousError); // fewer triangles, larger distance from the full mesh
+      // Each level is decimated from the level before, but its error is its distance from the full mesh.
+      expect(l.maxError).toBe(measureDeviation(m, l.mesh).max);
       previous = l.triangles;
       previousError = l.maxError;
     }
@@ -32,10 +37,10 @@ describe('buildLods', () => {
   });
 
   test(`the chain ends before a level would have under ${MIN_LOD_TRIANGLES} triangles, with a warning`, async () => {
-    const lods = await buildLods(octahedron(), 8, 3);
+    const lods = await buildLods(octahedron(), octahedron(), 3);
     expect(lods).toEqual([]);
     const m = marchingCubes(await sampleOctree(fnField(sphereSdf(0.5), [-0.75, -0.75, -0.75, 0.75, 0.75, 0.75]), { depth: 3, level: 0 }));
-    const few = await buildLods(m, 40, 5); // 20, then 10 < 16: stops after one level
+    const few = await buildLods(m, (await decimateMesh(m, { targetTriangles: 40 })).mesh, 5); // 20, then 10 < 16: stops after one level
     expect(few).toHaveLength(1);
     expect(few[0].warnings.join(' ')).toMatch(/only 1 of 5 LODs/);
   });

@@ -36,7 +36,7 @@ beforeAll(async () => {
   base = marchingCubes(await sampleOctree(fnField(torusSdf(0.6, 0.2), [-1, -0.4, -1, 1, 0.4, 1]), { depth: 5, level: 0 }));
   base.normals = areaWeightedNormals(base.positions, base.indices);
   base.colors = new Float32Array(base.positions.length).map((_, i) => (i % 3 === 0 ? 0.9 : 0.3) * ((i % 7) / 7));
-  lods = (await buildLods(base, base.indices.length / 3, 2)).map((l) => l.mesh);
+  lods = (await buildLods(base, base, 2)).map((l) => l.mesh);
 });
 
 /** The JSON chunk of a GLB (glTF 2.0 spec, GLB file format: 12-byte header, then chunk length, type, data). */
