@@ -61,8 +61,9 @@ export interface DecimateOptions {
   /** The input's own topology figures, when the caller already has them (saves one analysis). */
   inputReport?: MeshReport;
   /**
-   * A distance grid over the input's triangles, when the caller decimates the same mesh several times
-   * (the base level and its LODs): built once instead of once per call. See {@link measureDeviation}.
+   * A distance grid over the input's triangles, when the caller already has one (the bake builds one over
+   * the full mesh for the base level, and build-lods.ts measures every level from the full mesh with it):
+   * built once instead of once per call. See {@link measureDeviation}.
    */
   inputGrid?: TriangleGrid;
 }
