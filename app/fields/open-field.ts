@@ -56,7 +56,9 @@ export const FIELD_EXTENSIONS: Readonly<Record<string, string>> = {
  * onnxruntime session options. Intra-op threads: one per core, chosen by measurement (`npm run bench`,
  * 2026-12-02, 2-core machine, otherwise idle): 2 threads against 1 gave 5.6e5 vs 3.3e5 points/s on
  * sphere_sdf.onnx, 2.2e5 vs 1.3e5 on lantern_density.onnx and 3.3e6 vs 2.6e6 on torus_sdf.onnx at batch
- * 65 536 (batches of 16 384–262 144 were within 10% of each other). DEPENDENCIES.md §1 saw 1 thread win
+ * 65 536 (batches of 16 384–262 144 were within 10% of each other there; on a second 2-core VM, 2 threads
+ * gave 7.4e5–8.0e5 vs 3.8e5–4.1e5 on sphere_sdf.onnx, and 16 384 points per call was fastest: see
+ * NEURAL_DEFAULTS). DEPENDENCIES.md §1 saw 1 thread win
  * on a machine busy with other jobs; on a busy machine pass fewer threads (OpenFieldOptions).
  * `logSeverityLevel: 3` (errors only) keeps the runtime's own warnings (e.g. "Error merging shape
  * info") off the console; Fieldkiln checks the outputs itself and reports in its own words.

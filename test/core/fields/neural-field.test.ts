@@ -49,7 +49,7 @@ describe('createNeuralField', () => {
   });
 
   test(`runs in batches of batchSize points (default ${NEURAL_DEFAULTS.batchSize}) and keeps the order`, async () => {
-    expect(NEURAL_DEFAULTS.batchSize).toBe(65536);
+    expect(NEURAL_DEFAULTS.batchSize).toBe(16384); // chosen by measurement: neural-field.ts
     const m = fakeModel({ color: true });
     const f = createNeuralField(options({ run: m.run, outputs: [...sdfOut, { name: 'color', type: 'float32', shape: ['N', 3] }], batchSize: 4 }));
     const pts = new Float32Array(30).map((_, i) => i * 0.1);
