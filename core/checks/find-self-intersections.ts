@@ -157,15 +157,19 @@ interface PairTest {
   pairs: number[];
 }
 
-/** Tests triangles a and b, the lower index first: their boxes within ε, then the pair test. */
+/** Tests triangles a and b: their planes, then (the lower index first) their boxes within ε and the pair test. */
 function testPair(pt: PairTest, a: number, b: number): void {
+  if (!planesSeparate(pt.P, pt.I, pt.planes.planes, a, b, pt.eps)) testUnseparatedPair(pt, a, b);
+}
+
+/** {@link testPair} for a pair whose planes are known not to separate it (`planesSeparate` is symmetric). */
+function testUnseparatedPair(pt: PairTest, a: number, b: number): void {
   const { box, eps } = pt;
   const t = a < b ? a : b, u = a < b ? b : a;
   const tb = 6 * t, ub = 6 * u;
   if (box[ub] > box[tb + 3] + eps || box[ub + 1] > box[tb + 4] + eps || box[ub + 2] > box[tb + 5] + eps) return;
   if (box[ub + 3] < box[tb] - eps || box[ub + 4] < box[tb + 1] - eps || box[ub + 5] < box[tb + 2] - eps) return;
-  if (planesSeparate(pt.P, pt.I, pt.planes.planes, t, u, eps) || !trianglePairIntersects(pt.P, pt.I, pt.planes, t, u, eps)) return;
-  pt.pairs.push(t, u);
+  if (trianglePairIntersects(pt.P, pt.I, pt.planes, t, u, eps)) pt.pairs.push(t, u);
 }
 
 /**
@@ -278,10 +282,6 @@ function testGridPairs(pt: PairTest, inGrid: Uint8Array, count: number, all: num
         for (let i = 0; i < e - s; i++) {
           const hi = cellHome[i], ib = 6 * i;
           const x0 = cellBox[ib], y0 = cellBox[ib + 1], z0 = cellBox[ib + 2], x1 = cellBox[ib + 3], y1 = cellBox[ib + 4], z1 = cellBox[ib + 5];
-          // Triangle i's plane and vertices, for the plane-side rejection of its partners' corners.
-          const ip = 4 * i, nx = cellPlane[ip], ny = cellPlane[ip + 1], nz = cellPlane[ip + 2], d = cellPlane[ip + 3];
-          const flat = nx === 0 && ny === 0 && nz === 0;
-          const i0 = cellVert[3 * i], i1 = cellVert[3 * i + 1], i2 = cellVert[3 * i + 2];
           for (let j = i + 1; j < e - s; j++) {
             // The overlap's low corner is the larger of the two low corners (both at most this cell's),
             // so it lies in this cell when, on each axis, one of the two lies here.
@@ -289,27 +289,9 @@ function testGridPairs(pt: PairTest, inGrid: Uint8Array, count: number, all: num
             // A looser box test than the exact one (both grown by pad), in either order.
             const jb = 6 * j;
             if (cellBox[jb] > x1 || cellBox[jb + 1] > y1 || cellBox[jb + 2] > z1 || cellBox[jb + 3] < x0 || cellBox[jb + 4] < y0 || cellBox[jb + 5] < z0) continue;
-            // Most neighbours part here, by their planes (as `planesSeparate` tests it, in either order),
-            // before the exact box test: first j's corners against i's plane.
-            if (!flat) {
-              let above = 0, below = 0, free = 0;
-              for (let q = 0; q < 3; q++) {
-                const v = cellVert[3 * j + q];
-                if (v === i0 || v === i1 || v === i2) continue;
-                free++;
-                const jc = 9 * j + 3 * q;
-                const dist = nx * cellCorner[jc] + ny * cellCorner[jc + 1] + nz * cellCorner[jc + 2] - d;
-                if (dist > eps) above++;
-                else if (dist < -eps) below++;
-                else {
-                  free = -1;
-                  break;
-                }
-              }
-              if (free > 0 && (above === free || below === free)) continue;
-            }
-            if (oneSide(j, i)) continue;
-            testPair(pt, list[s + i], list[s + j]);
+            // Most neighbours part here, by their planes (as `planesSeparate` tests it, in either order).
+            if (oneSide(i, j) || oneSide(j, i)) continue;
+            testUnseparatedPair(pt, list[s + i], list[s + j]);
           }
         }
       }
