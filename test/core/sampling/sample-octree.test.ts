@@ -88,6 +88,30 @@ describe('octree sampling: cost and uneven bounds', () => {
     expect(cells.evaluations).toBeLessThan(1.6 * least);
   });
 
+  test('hundreds of balls smaller than a cell: the dense lattice\'s surface cells, with far fewer evaluations', async () => {
+    // The distance to a union of balls, min(|p − c| − r), is 1-Lipschitz (a distance function), so L = 1
+    // is exact. Balls of radius 0.3–1.2 cells are separate sheets that often change no sign at the cheap
+    // corners (a parent corner and the parent centre): only the doubtful-cell step can find them, and
+    // its proofs from neighbouring nodes must not drop one.
+    const depth = 6, h = 1 / 2 ** depth;
+    let seed = 7;
+    const rnd = () => ((seed = (Math.imul(seed, 1103515245) + 12345) >>> 0) / 4294967296);
+    const balls: number[] = [];
+    for (let b = 0; b < 300; b++) balls.push(-0.45 + 0.9 * rnd(), -0.45 + 0.9 * rnd(), -0.45 + 0.9 * rnd(), h * (0.3 + 0.9 * rnd()));
+    const sd = (x: number, y: number, z: number) => {
+      let d = Infinity;
+      for (let b = 0; b < balls.length; b += 4) d = Math.min(d, Math.hypot(x - balls[b], y - balls[b + 1], z - balls[b + 2]) - balls[b + 3]);
+      return d;
+    };
+    const field = fnField(sd, [-0.5, -0.5, -0.5, 0.5, 0.5, 0.5], { lipschitz: 1 });
+    const sparse = await sampleOctree(field, { depth });
+    const dense = await sampleDense(field, { depth });
+    expect(sparse.count).toBeGreaterThan(300); // most balls cross lattice edges
+    expect(Array.from(sparse.coords)).toEqual(Array.from(dense.coords));
+    expect(Array.from(sparse.corners)).toEqual(Array.from(dense.corners));
+    expect(sparse.evaluations).toBeLessThan(dense.evaluations / 4);
+  });
+
   for (const kind of ['sdf', 'density'] as const) {
     test(`${kind} field in bounds that are not a power-of-two number of cells: the dense lattice's surface cells`, async () => {
       // Clipped coarse cells at the lattice's far edges; the sphere pokes out of the bounds on y, so the
