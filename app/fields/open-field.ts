@@ -265,6 +265,7 @@ function withOverrides(field: Field, overrides: FieldOverrides, name: string): F
     defaultLevel: overrides.level ?? field.defaultLevel,
     hasColor: field.hasColor,
     lipschitz: field.lipschitz,
+    costly: field.costly,
     description: field.description,
     evaluate: (points, signal) => field.evaluate(points, signal),
     evaluateColor: field.evaluateColor ? (points, signal) => field.evaluateColor!(points, signal) : undefined,

@@ -196,6 +196,7 @@ if (port) {
       defaultLevel: inner.defaultLevel,
       hasColor: inner.hasColor,
       lipschitz: inner.lipschitz,
+      costly: inner.costly,
       description: inner.description,
       evaluate: (points, signal) => {
         poll();

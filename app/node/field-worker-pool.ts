@@ -119,6 +119,7 @@ export function poolField(field: Field, spec: WorkerFieldSpec, threads = default
     defaultLevel: field.defaultLevel,
     hasColor: field.hasColor,
     lipschitz: field.lipschitz,
+    costly: field.costly,
     samples: field.samples,
     description: { ...field.description, details: { ...(field.description.details ?? {}), workers: threads } },
     workers: threads,

@@ -23,6 +23,13 @@ export interface Field {
    * then the sampler uses the user's `--lipschitz` or its default safety factor.
    */
   readonly lipschitz?: number;
+  /**
+   * True when each evaluation is dear next to the mesh work (a neural network): the bake then asks for as
+   * few points as it can, e.g. with a budget, field normals only at the base level's vertices, with the
+   * lattice's own normals guiding decimation (bake-field.ts). Output never depends on timing, so this is
+   * the source's declaration, not a measurement.
+   */
+  readonly costly?: boolean;
   /** Human-readable description of the source (file name, outputs) for reports and `inspect`. */
   readonly description: FieldDescription;
   /**

@@ -91,6 +91,7 @@ const CLI = {
  * - `evaluate` runs the model in batches of `batchSize` points (checking `signal` between batches) and
  *   checks each output's length: `count` floats for the scalar, `3 * count` for `color`.
  * - `lipschitz` is undefined: a network promises no gradient bound.
+ * - `costly` is true: the bake asks a network for as few points as it can.
  *
  * @throws FieldkilnError (message starts with `name`) for a wrong input, no or several of
  *   sdf/density/occupancy outputs, wrong output types or shapes, missing or bad kind/bounds/level
@@ -249,6 +250,7 @@ export function createNeuralField(opts: NeuralFieldOptions): Field {
     defaultLevel: level,
     hasColor: colorOutput !== undefined,
     lipschitz: undefined,
+    costly: true,
     description,
     evaluate: (points, signal) => gather(points, outName, 1, signal),
   };

@@ -17,6 +17,14 @@
  *   the edges at two points), so no triangle has zero area.
  * - Polygons come from the plan table of cell-plan.ts (shared with the dense-grid driver) and are
  *   triangulated by `MeshBuilder.addFan` (fans that keep diagonals off the cell faces).
+ * - Optional lattice normals (`normals: true`): the gradient of the sampled values, with no new
+ *   evaluation (after the original method's normals, differences of the lattice values interpolated
+ *   along the edge; Lorensen and Cline 1987). Each cell that uses an edge's vertex adds the gradient of
+ *   its trilinear interpolant there; the four cells around a sign-changing edge are all surface cells,
+ *   so across the edge the sum is the lattice's central difference interpolated to the vertex, and along
+ *   it the edge's own difference (the gradient at the edge's middle: first-order accurate, within κh/2
+ *   on a surface of curvature κ; exact for a linear field). A centroid vertex takes its cell's gradient
+ *   at its position. The bake uses them to guide decimation of costly fields (bake-field.ts).
  */
 import type { MeshData } from '../types.js';
 import type { SurfaceCells } from '../sampling/sample-octree.js';
@@ -30,6 +38,13 @@ export { EDGE_MARGIN } from './cell-loops.js';
 /** Largest node plane ((nx+1)·(ny+1)) indexed by flat arrays: 2^21 nodes is 48 MB for both planes, depth 10 on a cube. */
 export const PLANE_INDEX_LIMIT = 2 ** 21;
 
+/** Options for {@link marchingCubes}. */
+export interface MarchingCubesOptions {
+  /** Also return unit vertex normals from the lattice's own values (see the file comment). Default: false. */
+  normals?: boolean;
+}
+
+
 /**
  * Triangulates the surface cells. Returns positions (3 floats per vertex, metres) and indices
  * (3 per triangle), counter-clockwise seen from outside.
@@ -37,7 +52,7 @@ export const PLANE_INDEX_LIMIT = 2 ** 21;
  * @example
  * const mesh = marchingCubes(await sampleOctree(field, { depth: 7 }));
  */
-export function marchingCubes(cells: SurfaceCells): MeshData {
+export function marchingCubes(cells: SurfaceCells, options: MarchingCubesOptions = {}): MeshData {
   const { lattice, count, coords, corners } = cells;
   const [nx, ny] = lattice.cells;
   const h = lattice.cellSize;
@@ -54,6 +69,9 @@ export function marchingCubes(cells: SurfaceCells): MeshData {
   const out = new MeshBuilder(count * 2);
   const v = new Float64Array(8);
   const loopIds = new Int32Array(16);
+  const withNormals = !!options.normals;
+  // Summed gradients, 3 per vertex (grown with the vertices).
+  let grad = new Float64Array(withNormals ? count * 6 : 0);
   for (let c = 0; c < count; c++) {
     const i = coords[3 * c], j = coords[3 * c + 1], k = coords[3 * c + 2];
     if (usePlanes && k !== planeZ) {
@@ -100,10 +118,54 @@ export function marchingCubes(cells: SurfaceCells): MeshData {
           } else edgeVertex!.set(key, id);
         }
         loopIds[m] = id;
+        if (withNormals) {
+          if (3 * id + 3 > grad.length) grad = growFloat64(grad, 3 * id + 3);
+          const t = edgeCrossing(v[c0], v[EDGE_C1[e]]);
+          addTrilinearGradient(v, a === 0 ? t : c0 & 1, a === 1 ? t : (c0 >> 1) & 1, a === 2 ? t : (c0 >> 2) & 1, grad, 3 * id);
+        }
       }
+      const before = out.vertexCount;
       if (n === 3) out.addTriangle(loopIds[0], loopIds[1], loopIds[2]);
       else out.addFan(starts, loopIds, n);
+      if (withNormals && out.vertexCount > before) {
+        // A centroid vertex inside this cell: its gradient there.
+        const id = out.vertexCount - 1;
+        if (3 * id + 3 > grad.length) grad = growFloat64(grad, 3 * id + 3);
+        const p = out.pos;
+        addTrilinearGradient(v, (p[3 * id] - ox) / h - i, (p[3 * id + 1] - oy) / h - j, (p[3 * id + 2] - oz) / h - k, grad, 3 * id);
+      }
     }
   }
-  return out.toMesh();
+  const mesh = out.toMesh();
+  if (withNormals) {
+    const V = out.vertexCount;
+    const normals = new Float32Array(3 * V);
+    for (let q = 0; q < 3 * V; q += 3) {
+      const gx = grad[q], gy = grad[q + 1], gz = grad[q + 2];
+      // Never zero: along its edge a vertex's gradient is the difference of two values of opposite sign.
+      const len = Math.sqrt(gx * gx + gy * gy + gz * gz);
+      normals[q] = gx / len;
+      normals[q + 1] = gy / len;
+      normals[q + 2] = gz / len;
+    }
+    mesh.normals = normals;
+  }
+  return mesh;
+}
+
+/**
+ * Adds to out[o..o+2] the gradient (per cell, signed values growing outward) of the trilinear interpolant
+ * of corner values `v` (corner c at (c&1, c>>1&1, c>>2&1)) at local coordinates (x, y, z) in [0, 1]³.
+ */
+function addTrilinearGradient(v: Float64Array, x: number, y: number, z: number, out: Float64Array, o: number): void {
+  const x1 = 1 - x, y1 = 1 - y, z1 = 1 - z;
+  out[o] += y1 * z1 * (v[1] - v[0]) + y * z1 * (v[3] - v[2]) + y1 * z * (v[5] - v[4]) + y * z * (v[7] - v[6]);
+  out[o + 1] += x1 * z1 * (v[2] - v[0]) + x * z1 * (v[3] - v[1]) + x1 * z * (v[6] - v[4]) + x * z * (v[7] - v[5]);
+  out[o + 2] += x1 * y1 * (v[4] - v[0]) + x * y1 * (v[5] - v[1]) + x1 * y * (v[6] - v[2]) + x * y * (v[7] - v[3]);
+}
+
+function growFloat64(a: Float64Array<ArrayBuffer>, need: number): Float64Array<ArrayBuffer> {
+  const next = new Float64Array(Math.max(need, 2 * a.length));
+  next.set(a);
+  return next;
 }

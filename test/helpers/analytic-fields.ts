@@ -8,7 +8,7 @@ import type { Bounds, FieldKind } from '../../core/types.js';
 export function fnField(
   fn: (x: number, y: number, z: number) => number,
   bounds: Bounds,
-  opts: { kind?: FieldKind; level?: number; lipschitz?: number; color?: (x: number, y: number, z: number) => [number, number, number]; name?: string } = {},
+  opts: { kind?: FieldKind; level?: number; lipschitz?: number; costly?: boolean; color?: (x: number, y: number, z: number) => [number, number, number]; name?: string } = {},
 ): Field & { calls: number } {
   const f = {
     kind: opts.kind ?? 'sdf',
@@ -16,6 +16,7 @@ export function fnField(
     defaultLevel: opts.level ?? (opts.kind === 'density' ? undefined : 0),
     hasColor: !!opts.color,
     lipschitz: opts.lipschitz ?? (opts.kind && opts.kind !== 'sdf' ? undefined : 1),
+    costly: opts.costly,
     description: { source: 'test', name: opts.name ?? 'analytic', outputs: ['sdf'] },
     calls: 0,
     async evaluate(p: Float32Array) {

@@ -94,3 +94,57 @@ describe('marching cubes on analytic fields', () => {
     expect(marchingCubes(cells).indices.length).toBe(0);
   });
 });
+
+describe('marching cubes: lattice normals', () => {
+  const angleDeg = (n: Float32Array, v: number, ax: number, ay: number, az: number) => {
+    const len = Math.hypot(ax, ay, az);
+    const d = (n[3 * v] * ax + n[3 * v + 1] * ay + n[3 * v + 2] * az) / len;
+    return (Math.acos(Math.min(1, d)) * 180) / Math.PI;
+  };
+
+  test('exact for a linear field: every vertex away from the bounds gets the plane\'s normal', async () => {
+    // Trilinear interpolation reproduces an affine function exactly, so its gradient is the plane's normal.
+    // Coefficients with few bits keep every sample exact in float32 (with 0.3, −0.5, 0.8 − 0.1 the
+    // rounding of the stored values alone tilts normals by up to 0.01°).
+    const [a, b, c] = [0.25, -0.5, 0.75];
+    const cells = await sampleOctree(fnField((x, y, z) => a * x + b * y + c * z - 0.125, CUBE, { lipschitz: Math.hypot(a, b, c) }), { depth: 5 });
+    const mesh = marchingCubes(cells, { normals: true });
+    const h = cells.lattice.cellSize;
+    let checked = 0, worst = 0;
+    for (let v = 0; v < mesh.positions.length / 3; v++) {
+      const p = [0, 1, 2].map((k) => mesh.positions[3 * v + k]);
+      if (p.some((x) => Math.abs(x) > 0.75 - 2 * h)) continue; // the outer layer counts as outside
+      worst = Math.max(worst, angleDeg(mesh.normals!, v, a, b, c));
+      checked++;
+    }
+    expect(checked).toBeGreaterThan(500);
+    expect(worst).toBeLessThan(1e-4); // float32 normals
+  });
+
+  // On a sphere of radius r the error is first order: across the edge the normal is the lattice's central
+  // difference interpolated to the vertex, but along it the edge's own difference, the gradient at the
+  // edge's middle, |t − ½|·h from the vertex: the normal turns by at most κh/2 = h/(2r) there (our own
+  // bound from that argument).
+  const worstOnSphere: number[] = [];
+  for (const depth of [6, 7]) {
+    test(`sphere r=0.5 at depth ${depth}: within h/(2r) of the analytic normal p/|p|, and the same triangles as without normals`, async () => {
+      const r = 0.5;
+      const cells = await sampleOctree(fnField(sphereSdf(r), CUBE), { depth });
+      const plain = marchingCubes(cells);
+      const mesh = marchingCubes(cells, { normals: true });
+      expect(Array.from(mesh.indices)).toEqual(Array.from(plain.indices));
+      expect(Array.from(mesh.positions)).toEqual(Array.from(plain.positions));
+      expect(mesh.normals).toHaveLength(mesh.positions.length);
+      let worst = 0;
+      for (let v = 0; v < mesh.positions.length / 3; v++) {
+        worst = Math.max(worst, angleDeg(mesh.normals!, v, mesh.positions[3 * v], mesh.positions[3 * v + 1], mesh.positions[3 * v + 2]));
+      }
+      const bound = ((cells.lattice.cellSize / (2 * r)) * 180) / Math.PI;
+      console.log(`sphere depth ${depth}: lattice normals at most ${worst.toFixed(4)}° from p/|p| (bound ${bound.toFixed(4)}°)`);
+      expect(worst).toBeLessThan(bound);
+      worstOnSphere.push(worst);
+      if (worstOnSphere.length === 2) expect(worstOnSphere[1]).toBeLessThan(worstOnSphere[0]); // finer lattice, closer normals
+    });
+  }
+});
+

@@ -11,6 +11,7 @@ import { fnField, sphereSdf, torusSdf } from '../../helpers/analytic-fields.js';
 import { resolve } from 'node:path';
 import { openField } from '../../../app/fields/open-field.js';
 import { REPO_ROOT } from '../../helpers/fixtures.js';
+import { fieldGradientNormals } from '../../../core/normals/field-gradient-normals.js';
 
 const TORUS_BOUNDS: Bounds = [-1, -0.4, -1, 1, 0.4, 1];
 const torus = () => fnField(torusSdf(0.6, 0.2), TORUS_BOUNDS, { color: (_x, y) => [0.5 + y, 0.3, 0.2], name: 'torus' });
@@ -46,6 +47,44 @@ describe('bakeField: budget, LODs, colors, checks', () => {
     expect(parts.map((p) => p.mesh.indices.length / 3)).toEqual([rep.decimation.triangles, rep.lods[0].triangles, rep.lods[1].triangles]);
   });
 
+  test('a costly field with a budget: the lattice\'s normals guide decimation, and only the base level\'s vertices are sent to the field', async () => {
+    const costly = fnField(torusSdf(0.6, 0.2), TORUS_BOUNDS, { costly: true });
+    const r = await bakeField(costly, { depth: 6, budget: 3000, lods: 1 });
+    const rep = r.report;
+    const baseVertices = r.mesh.positions.length / 3;
+    expect(rep.normals.guide).toBe('lattice');
+    expect(rep.normals.evaluations).toBe(6 * baseVertices);
+    expect(rep.decimation.inputTriangles).toBeGreaterThan(4 * rep.decimation.triangles);
+    // The base level's normals are exactly the field's at its vertices (same stencil and step).
+    const own = await fieldGradientNormals(costly, r.mesh.positions, r.mesh.indices, { step: rep.normals.step! });
+    expect(Array.from(r.mesh.normals!)).toEqual(Array.from(own.normals));
+    // And an analytic check: the torus's true normal, within 0.5° (central differences, O(h²)).
+    const [R] = [0.6];
+    for (let v = 0; v < baseVertices; v++) {
+      const [x, y, z] = [0, 1, 2].map((k) => r.mesh.positions[3 * v + k]);
+      const q = Math.hypot(x, z);
+      const c = [x - (R * x) / q, y, z - (R * z) / q]; // from the tube's centre circle
+      const len = Math.hypot(...c);
+      const dot = (c[0] * r.mesh.normals![3 * v] + c[1] * r.mesh.normals![3 * v + 1] + c[2] * r.mesh.normals![3 * v + 2]) / len;
+      expect(dot).toBeGreaterThan(Math.cos((0.5 * Math.PI) / 180));
+    }
+    // The LOD keeps a subset of the base level's vertices, with their normals.
+    const byPosition = new Map<string, string>();
+    for (let v = 0; v < baseVertices; v++) byPosition.set(Array.from(r.mesh.positions.subarray(3 * v, 3 * v + 3)).join(), Array.from(r.mesh.normals!.subarray(3 * v, 3 * v + 3)).join());
+    const lod = r.lods[0];
+    for (let v = 0; v < lod.positions.length / 3; v++) {
+      expect(byPosition.get(Array.from(lod.positions.subarray(3 * v, 3 * v + 3)).join())).toBe(Array.from(lod.normals!.subarray(3 * v, 3 * v + 3)).join());
+    }
+    expect(rep.mesh.watertight).toBe(true);
+    expect(rep.checks.every((c) => c.ok)).toBe(true);
+
+    // The same field, not declared costly: every vertex of the full mesh gets the field's normal (a closed
+    // genus-1 mesh has V = T/2 vertices, Euler's formula).
+    const cheap = await bakeField(fnField(torusSdf(0.6, 0.2), TORUS_BOUNDS), { depth: 6, budget: 3000, lods: 1 });
+    expect(cheap.report.normals.guide).toBe('field');
+    expect(cheap.report.normals.evaluations).toBe(6 * (cheap.report.decimation.inputTriangles / 2));
+  });
+
   test('identical inputs and options give byte-identical GLBs', async () => {
     const a = await bakeField(torus(), { depth: 5, budget: 1500, lods: 1, provenance: { file: 't.json' } });
     const b = await bakeField(torus(), { depth: 5, budget: 1500, lods: 1, provenance: { file: 't.json' } });
@@ -65,7 +104,7 @@ describe('bakeField: budget, LODs, colors, checks', () => {
 
   test('--normals mesh uses area-weighted normals; PLY output keeps only the base level and says so', async () => {
     const r = await bakeField(torus(), { depth: 5, lods: 1, normals: 'mesh', format: 'ply' });
-    expect(r.report.normals).toEqual({ method: 'mesh', fallbackVertices: 0, step: null });
+    expect(r.report.normals).toEqual({ method: 'mesh', fallbackVertices: 0, step: null, evaluations: 0, guide: 'mesh' });
     expect(r.format).toBe('ply');
     expect(r.glb).toBeUndefined();
     expect(new TextDecoder().decode(r.bytes!.subarray(0, 3))).toBe('ply');
