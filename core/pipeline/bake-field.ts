@@ -415,10 +415,10 @@ async function bakeStages(field: Field, options: BakeOptions, checkStop: AbortSi
   // (decimate-mesh.ts). For a costly field (a network) with a budget and marching cubes, the lattice's
   // own normals (from extraction, no evaluation) guide it and only the base level's vertices are then
   // sent to the field: at depth 9 with a 50 k budget, 6 points for each of 25 k vertices instead of
-  // 549 k (sphere_sdf.onnx). Otherwise every vertex of the full mesh gets the field's normal here: for
-  // recipes, whose creases the lattice's normals blur, the field's guide decimated closer to the full
-  // mesh (largest distance 1.15× smaller, geometric mean of 8 demo-recipe and grid cases; about even
-  // on 11 network cases, 0.82–1.39×), and their evaluations are cheap.
+  // 549 k (sphere_sdf.onnx). Otherwise every vertex of the full mesh gets the field's normal here:
+  // recipes' creases are blurred by the lattice's normals (with them as the guide, the largest distance
+  // from the full mesh grew 1.16×, geometric mean of 13 recipe and grid cases, 0.55–2.14×), and their
+  // evaluations are cheap. On 12 network cases: 1.06× (0.82–1.94×; see DEVELOPERS.md).
   throwIfAborted(options.signal);
   progress('normals', 0);
   t = performance.now();
