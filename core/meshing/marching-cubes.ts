@@ -44,7 +44,6 @@ export interface MarchingCubesOptions {
   normals?: boolean;
 }
 
-
 /**
  * Triangulates the surface cells. Returns positions (3 floats per vertex, metres) and indices
  * (3 per triangle), counter-clockwise seen from outside.

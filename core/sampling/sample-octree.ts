@@ -613,11 +613,6 @@ export async function sampleOctree(field: Field, options: SampleOctreeOptions = 
 const CORNER_DISTANCE = [0, 1, Math.SQRT2, Math.sqrt(3)];
 
 /**
- * Decides the doubtful finest cells of an SDF without evaluating all their corners: returns the ones
- * that have a sign change among their corners (to start a flood fill from), assuming the field is
- * `lh / h`-Lipschitz. `lh`: the Lipschitz bound times the cell size.
- */
-/**
  * True when a known lattice node next to (i, j, k) (one of its 26 neighbours, nearest first) proves under
  * the Lipschitz bound that (i, j, k) has the sign `inside`: a value of that sign with |s(r)| > L·|p − r|.
  * The neighbours that decide most doubtful corners are level d − 1's centres of pruned and surviving
@@ -649,6 +644,11 @@ const NEIGHBOUR_STEPS = Int8Array.from(
   }),
 );
 
+/**
+ * Decides the doubtful finest cells of an SDF without evaluating all their corners: returns the ones
+ * that have a sign change among their corners (to start a flood fill from), assuming the field is
+ * `lh / h`-Lipschitz. `lh`: the Lipschitz bound times the cell size.
+ */
 async function settleDoubtful(sampler: NodeSampler, parents: IntList, maybe: Uint8Array, lh: number, lat: Lattice): Promise<IntList> {
   const nodes = sampler.nodes;
   const [nx, ny, nz] = lat.cells;
