@@ -268,6 +268,8 @@ async function bakeStages(field: Field, options: BakeOptions, checkStop: AbortSi
   let sampled: Omit<BakeReport['sampling'], 'extraEvaluations' | 'mode' | 'depth'>;
   let cells: SurfaceCells | undefined;
   let mesh: MeshData | undefined;
+  // A costly field baked to a budget: marching cubes' lattice normals guide decimation (see the normals below).
+  const latticeGuideWanted = shaping.normals === 'field' && shaping.budget > 0 && field.costly === true;
   let extraEvaluations = 0;
   if (options.onSamples) {
     const g = field.samples;
@@ -366,7 +368,7 @@ async function bakeStages(field: Field, options: BakeOptions, checkStop: AbortSi
       const dc = await dualContour(cells, field, { signal: options.signal });
       mesh = dc.mesh;
       extraEvaluations = dc.extraEvaluations;
-    } else mesh = marchingCubes(cells, { normals: shaping.normals === 'field' && shaping.budget > 0 && field.costly === true });
+    } else mesh = marchingCubes(cells, { normals: latticeGuideWanted });
     timings.extract = secs(t);
   }
 
@@ -424,7 +426,7 @@ async function bakeStages(field: Field, options: BakeOptions, checkStop: AbortSi
   t = performance.now();
   const cellSize = sampled.cellSize;
   const step = FIELD_GRADIENT_NORMALS_DEFAULTS.stepCells * cellSize;
-  const latticeGuide = shaping.normals === 'field' && shaping.budget > 0 && !!full.normals;
+  const latticeGuide = latticeGuideWanted && !!full.normals; // none from dual contouring or --on-samples
   const normalsReport: BakeReport['normals'] = { method: shaping.normals, fallbackVertices: 0, step: null, evaluations: 0, guide: latticeGuide ? 'lattice' : shaping.normals };
   const fieldNormals = async (m: MeshData): Promise<Float32Array> => {
     const r = await fieldGradientNormals(field, m.positions, m.indices, { step, signal: options.signal });
