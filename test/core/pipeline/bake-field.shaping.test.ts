@@ -83,6 +83,11 @@ describe('bakeField: budget, LODs, colors, checks', () => {
     const cheap = await bakeField(fnField(torusSdf(0.6, 0.2), TORUS_BOUNDS), { depth: 6, budget: 3000, lods: 1 });
     expect(cheap.report.normals.guide).toBe('field');
     expect(cheap.report.normals.evaluations).toBe(6 * (cheap.report.decimation.inputTriangles / 2));
+
+    // Dual contouring has no lattice normals: a costly field's full mesh then gets the field's normals.
+    const dc = await bakeField(fnField(torusSdf(0.6, 0.2), TORUS_BOUNDS, { costly: true }), { depth: 5, budget: 1000, method: 'dual-contouring' });
+    expect(dc.report.normals.guide).toBe('field');
+    expect(dc.report.normals.evaluations).toBeGreaterThan(6 * (dc.mesh.positions.length / 3));
   });
 
   test('identical inputs and options give byte-identical GLBs', async () => {
