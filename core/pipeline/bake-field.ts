@@ -436,10 +436,8 @@ async function bakeStages(field: Field, options: BakeOptions, checkStop: AbortSi
     }
     return r.normals;
   };
-  if (latticeGuide) {
-    // The field's normals come after decimation, at the base level's vertices.
-  } else if (shaping.normals === 'field') full.normals = await fieldNormals(full);
-  else full.normals = areaWeightedNormals(full.positions, full.indices);
+  // With the lattice's guide, the field's normals come after decimation, at the base level's vertices.
+  if (!latticeGuide) full.normals = shaping.normals === 'field' ? await fieldNormals(full) : areaWeightedNormals(full.positions, full.indices);
   timings.normals = secs(t);
 
   // Decimation to the budget and LODs; the field's colors guide the simplifier when it has them.
